@@ -40,7 +40,7 @@ const FN = 'categoricalSmd';
  *   the wrong length; every participant has the same level (zero variance); or S is singular,
  *   which happens when the arms' levels do not overlap enough for the difference to be scaled.
  * @example
- * categoricalSmd(['a', 'b', 'c', 'a'], ['b', 'b', 'c', 'a']); // 0.5773... (sqrt(1/3))
+ * categoricalSmd(['a', 'b', 'c', 'a'], ['b', 'b', 'c', 'a']); // 0.6030... (sqrt(0.0625 * 0.1875 / 0.0322265625))
  */
 export function categoricalSmd(
   levelsTreated: ArrayLike<Level>,

@@ -78,7 +78,9 @@ function smdFromMoments(fn: string, meanT: number, varT: number, meanC: number, 
       `${fn}: both arms have zero variance (every value identical within each arm), so the SMD is undefined; report the values instead`,
     );
   }
-  return (meanT - meanC) / Math.sqrt(pooled);
+  const d = (meanT - meanC) / Math.sqrt(pooled);
+  return d === 0 ? 0 : d; // no -0 in stored results
+
 }
 
 export type ArmSummary = { mean: number; variance: number };
