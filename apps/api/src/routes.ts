@@ -1,0 +1,8 @@
+import type { Router } from 'express';
+import type { AppContext } from './app-context.js';
+
+/**
+ * Route modules of the later capabilities (design and enrollment, balance, analysis), each
+ * added here by its own line. The foundation's routes are mounted in app.ts.
+ */
+export const routeModules: ((ctx: AppContext) => Router)[] = [];

@@ -1,0 +1,16 @@
+import 'reflect-metadata';
+import bcrypt from 'bcryptjs';
+import { loadEnv } from '../config/env.js';
+import { createDataSource } from '../db/data-source.js';
+import { seedDemo } from './seed-demo.js';
+
+const env = loadEnv();
+const ds = createDataSource(env);
+await ds.initialize();
+try {
+  const hash = await bcrypt.hash(env.DEMO_PASSWORD, 10);
+  const summary = await seedDemo(ds, hash);
+  console.log(summary.created ? `Demo data created: ${summary.detail}` : 'Demo data already present; nothing added.');
+} finally {
+  await ds.destroy();
+}
