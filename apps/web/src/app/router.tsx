@@ -1,0 +1,59 @@
+import { createBrowserRouter, Navigate } from 'react-router-dom';
+import { paths } from '../config/paths.js';
+import { AcceptInviteRoute } from './routes/accept-invite.js';
+import { AdminOutboxRoute } from './routes/admin/outbox.js';
+import { AdminUsersRoute } from './routes/admin/users.js';
+import { AppShell } from './routes/app-shell.js';
+import { AuditRoute } from './routes/audit.js';
+import { ForgotPasswordRoute } from './routes/forgot-password.js';
+import { NotFoundRoute } from './routes/not-found.js';
+import { ResetPasswordRoute } from './routes/reset-password.js';
+import { RouteErrorBoundary } from './routes/route-error.js';
+import { SignInRoute } from './routes/sign-in.js';
+import { StudiesRoute } from './routes/studies.js';
+import { StudyAuditRoute } from './routes/study/study-audit.js';
+import { StudyLayout } from './routes/study/study-layout.js';
+import { StudyOverviewRoute } from './routes/study/study-overview.js';
+import { StudySectionPlaceholder } from './routes/study/study-section-placeholder.js';
+
+/*
+ * Study sections are child routes of /studies/:studyId. To add a page, replace its
+ * placeholder element here; the tab list and who sees it live in study/study-tabs.ts and
+ * lib/authorization.ts.
+ */
+export const router = createBrowserRouter([
+  {
+    errorElement: <RouteErrorBoundary />,
+    children: [
+      { path: paths.auth.signIn.path, element: <SignInRoute /> },
+      { path: paths.auth.forgotPassword.path, element: <ForgotPasswordRoute /> },
+      { path: paths.auth.resetPassword.path, element: <ResetPasswordRoute /> },
+      { path: paths.auth.acceptInvite.path, element: <AcceptInviteRoute /> },
+      {
+        element: <AppShell />,
+        children: [
+          { index: true, element: <Navigate to={paths.studies.list.href()} replace /> },
+          { path: paths.studies.list.path, element: <StudiesRoute /> },
+          {
+            path: paths.studies.study.path,
+            element: <StudyLayout />,
+            children: [
+              { index: true, element: <StudyOverviewRoute /> },
+              { path: 'participants', element: <StudySectionPlaceholder tab="participants" /> },
+              { path: 'balance', element: <StudySectionPlaceholder tab="balance" /> },
+              { path: 'alerts', element: <StudySectionPlaceholder tab="alerts" /> },
+              { path: 'analysis', element: <StudySectionPlaceholder tab="analysis" /> },
+              { path: 'design', element: <StudySectionPlaceholder tab="design" /> },
+              { path: 'audit', element: <StudyAuditRoute /> },
+              { path: '*', element: <NotFoundRoute /> },
+            ],
+          },
+          { path: paths.audit.path, element: <AuditRoute /> },
+          { path: paths.admin.users.path, element: <AdminUsersRoute /> },
+          { path: paths.admin.outbox.path, element: <AdminOutboxRoute /> },
+          { path: '*', element: <NotFoundRoute /> },
+        ],
+      },
+    ],
+  },
+]);

@@ -1,0 +1,54 @@
+import { describe, expect, it } from 'vitest';
+import type { Me } from '@counterpoise/contracts/auth';
+import { studyTabsFor, topNavFor } from './authorization.js';
+
+const studyA = '11111111-1111-4111-8111-111111111111';
+const studyB = '22222222-2222-4222-8222-222222222222';
+
+function me(partial: Partial<Pick<Me, 'isAdmin' | 'roles' | 'memberships'>>): Pick<Me, 'isAdmin' | 'roles' | 'memberships'> {
+  return { isAdmin: false, roles: [], memberships: [], ...partial };
+}
+
+// Expected sets follow the role table of the product brief (issue 2, items 6 and 9).
+describe('topNavFor', () => {
+  it.each([
+    ['admin', me({ isAdmin: true, roles: ['admin'] }), ['studies', 'audit', 'users', 'outbox']],
+    ['coordinator', me({ roles: ['coordinator'] }), ['studies']],
+    ['statistician', me({ roles: ['statistician'] }), ['studies', 'audit']],
+    ['sponsor', me({ roles: ['sponsor'] }), ['studies']],
+    ['auditor', me({ roles: ['auditor'] }), ['studies', 'audit']],
+  ] as const)('when the user is %s, then the top navigation is exactly the allowed set', (_name, user, expected) => {
+    expect(topNavFor(user)).toEqual(expected);
+  });
+
+  it('when isAdmin is set without the role in the list, then admin items still show', () => {
+    expect(topNavFor(me({ isAdmin: true, roles: [] }))).toContain('users');
+  });
+});
+
+describe('studyTabsFor', () => {
+  const membership = (studyId: string, role: 'coordinator' | 'statistician' | 'sponsor' | 'auditor') => ({
+    studyId,
+    studyCode: 'X',
+    role,
+    siteIds: [],
+  });
+
+  it.each([
+    ['coordinator', me({ memberships: [membership(studyA, 'coordinator')] }), ['overview', 'participants']],
+    [
+      'statistician',
+      me({ memberships: [membership(studyA, 'statistician')] }),
+      ['overview', 'participants', 'balance', 'alerts', 'analysis', 'design', 'audit'],
+    ],
+    ['sponsor', me({ memberships: [membership(studyA, 'sponsor')] }), ['overview']],
+    ['auditor', me({ memberships: [membership(studyA, 'auditor')] }), ['overview', 'audit']],
+    ['admin', me({ isAdmin: true }), ['overview', 'design']],
+  ] as const)('when the user is %s of the study, then the tabs are exactly the allowed set', (_n, user, expected) => {
+    expect(studyTabsFor(user, studyA)).toEqual(expected);
+  });
+
+  it('when the role is held in another study only, then nothing is offered here', () => {
+    expect(studyTabsFor(me({ memberships: [membership(studyB, 'statistician')] }), studyA)).toEqual([]);
+  });
+});
