@@ -334,7 +334,7 @@ write(
         **header(
             "logisticRegression: maximum likelihood by scipy.optimize.minimize(Newton-CG, xtol 1e-14, gradient checked < 1e-7) with analytic "
             "gradient and Hessian; SEs from the inverse Hessian at the optimum (numpy.linalg.inv)",
-            {"relative": 1e-7, "absoluteFloor": 1e-9},
+            {"relative": 1e-9, "absoluteFloor": 1e-12},
         ),
         "cases": logit_cases,
     },
