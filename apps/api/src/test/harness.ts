@@ -10,12 +10,13 @@ import type { Express } from 'express';
 import type TestAgent from 'supertest/lib/agent.js';
 import { buildApp } from '../app.js';
 import type { AppContext } from '../app-context.js';
-import { loadEnv, type Env } from '../config/env.js';
+import { loadEnv, repoRoot, type Env } from '../config/env.js';
 import { createDataSource } from '../db/data-source.js';
 import { createJobQueue } from '../jobs/queue.js';
 import { startFakeSmtp } from '../mail/fake-smtp.js';
 import { createMailer } from '../modules/mail/mailer.js';
-import { TEMPLATE_DB } from './global-setup.js';
+import { inject } from 'vitest';
+import { testDbName } from './global-setup.js';
 
 export type TestContext = {
   app: Express;
@@ -44,11 +45,11 @@ function ownerClient(env: Env, database: string) {
 
 /** A fresh database cloned from the migrated template, the real API on it, and a fake SMTP server. */
 export async function createTestContext(overrides: Partial<Record<string, string>> = {}): Promise<TestContext> {
-  const database = `cp_t_${randomBytes(6).toString('hex')}`;
+  const database = testDbName('t', randomBytes(4).toString('hex'));
   const base = loadEnv({ ...process.env, NODE_ENV: 'test', LOG_LEVEL: 'silent', ...overrides });
   const admin = ownerClient(base, base.DB_NAME);
   await admin.connect();
-  await admin.query(`CREATE DATABASE ${database} TEMPLATE ${TEMPLATE_DB}`);
+  await admin.query(`CREATE DATABASE ${database} TEMPLATE ${inject('templateDb')}`);
   await admin.query(`GRANT CREATE, CONNECT ON DATABASE ${database} TO "${base.DB_APP_USER}"`);
   await admin.end();
 
@@ -177,6 +178,21 @@ export async function signIn(t: TestContext, email: string, password = TEST_PASS
     delete: (url) => agent.delete(url).set('X-CSRF-Token', csrf),
     get: (url) => agent.get(url),
   };
+}
+
+/** The cluster's superuser over our own Unix socket (docker-free-db trusts only that). */
+export async function superuserQuery<T = Record<string, unknown>>(t: TestContext, sql: string, params?: unknown[]) {
+  const port = t.env.DB_PORT;
+  const candidates = [path.resolve(repoRoot, process.env.DB_DIR ?? '.data/pg', 'run'), `/tmp/counterpoise-pg-${port}/run`];
+  const host = candidates.find((dir) => fs.existsSync(path.join(dir, `.s.PGSQL.${port}`)));
+  if (!host) throw new Error(`No PostgreSQL socket found in ${candidates.join(' or ')}`);
+  const client = new pg.Client({ host, port, user: 'postgres', database: t.database });
+  await client.connect();
+  try {
+    return (await client.query(sql, params)).rows as T[];
+  } finally {
+    await client.end();
+  }
 }
 
 export async function auditCount(t: TestContext): Promise<number> {
