@@ -2,6 +2,7 @@
 // Used when package-lock.json is newer than node_modules/.package-lock.json: a plain
 // `npm install <pkg>` can leave that order of timestamps with nothing to reinstall.
 import { readFileSync } from 'node:fs';
+import process from 'node:process';
 
 const read = (file) => JSON.parse(readFileSync(file, 'utf8')).packages ?? {};
 let wanted;
