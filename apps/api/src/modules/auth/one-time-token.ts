@@ -1,5 +1,6 @@
 import { createHash, randomBytes } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
+import { queryRows } from '../../db/transaction.js';
 
 export type TokenPurpose = 'invite' | 'reset';
 export const TOKEN_LIFETIME_MINUTES: Record<TokenPurpose, number> = { invite: 7 * 24 * 60, reset: 60 };
@@ -19,7 +20,8 @@ export async function issueToken(tx: EntityManager, userId: string, purpose: Tok
 
 /** Marks the token used and returns its user, or null when it is unknown, used or expired. */
 export async function consumeToken(tx: EntityManager, token: string, purpose: TokenPurpose): Promise<string | null> {
-  const rows: { user_id: string }[] = await tx.query(
+  const rows = await queryRows<{ user_id: string }>(
+    tx,
     `UPDATE one_time_token SET used_at = now()
       WHERE token_hash = $1 AND purpose = $2 AND used_at IS NULL AND expires_at > now()
       RETURNING user_id`,
