@@ -3,6 +3,7 @@ import { Router, type Request } from 'express';
 import type { AppContext } from '../../app-context.js';
 import { toCsv } from '../../http/csv.js';
 import { query } from '../../http/validate.js';
+import { forbidden } from '../../http/app-error.js';
 import { requireActor, requireGlobal, studyAccess } from '../policy/policy.js';
 import { verifyAuditChain } from './audit-verify.js';
 
@@ -57,7 +58,7 @@ function filters(q: AuditQuery, params: unknown[]): string[] {
 
 export async function readAudit(ctx: AppContext, req: Request, q: AuditQuery, limit: number) {
   const vis = visibility(req, 1);
-  if (!vis) return [];
+  if (!vis) throw forbidden('Your role does not include reading the audit trail');
   const params = [...vis.params];
   const where = [vis.sql, ...filters(q, params)];
   params.push(limit);
