@@ -1,0 +1,39 @@
+// Entry point of @counterpoise/stats. Each engineer adds only their own export lines.
+
+// Balance, propensity and allocation
+export { summarize, type Summary, type SummaryMethods } from './summarize/summarize.js';
+export {
+  standardizedMeanDifference,
+  standardizedMeanDifferenceFromSummaries,
+  type SmdKind,
+  type SmdOptions,
+  type ArmSummary,
+} from './standardizedMeanDifference/standardizedMeanDifference.js';
+export { categoricalSmd, type Level } from './categoricalSmd/categoricalSmd.js';
+export { varianceRatio, type ArmWeights } from './varianceRatio/varianceRatio.js';
+export { smdChanceBand, SMD_CHANCE_APPROXIMATION, type SmdChanceBand } from './smdChanceBand/smdChanceBand.js';
+export { expectedChanceExceedances, type ChanceExceedances } from './expectedChanceExceedances/expectedChanceExceedances.js';
+export { createAccumulator, MomentAccumulator, type AccumulatorState } from './createAccumulator/createAccumulator.js';
+export {
+  logisticRegression,
+  SeparationError,
+  ConvergenceError,
+  type LogisticOptions,
+  type LogisticResult,
+} from './logisticRegression/logisticRegression.js';
+export { propensityWeights, type Estimand, type PropensityWeightOptions, type PropensityWeights } from './propensityWeights/propensityWeights.js';
+export { effectiveSampleSize } from './effectiveSampleSize/effectiveSampleSize.js';
+export { createRng, type Rng, type RngState } from './createRng/createRng.js';
+export {
+  permutedBlockSequence,
+  type PermutedBlockOptions,
+  type PermutedBlockList,
+  type BlockAssignment,
+} from './permutedBlockSequence/permutedBlockSequence.js';
+export {
+  minimizationAssign,
+  type MinimizationInput,
+  type MinimizationDecision,
+  type ImbalanceMeasure,
+} from './minimizationAssign/minimizationAssign.js';
+export { ALLOCATION_ALGORITHM_VERSION, type AllocationAlgorithm } from './allocationAlgorithmVersion/allocationAlgorithmVersion.js';
