@@ -2,9 +2,10 @@ import { DataSource } from 'typeorm';
 import type { Env } from '../config/env.js';
 import { entities } from './entities.js';
 import { Foundation1764633600000 } from './migrations/1764633600000-foundation.js';
+import { Balance1764720000000 } from './migrations/1764720000000-balance.js';
 
 /** Every migration, in order. Add new ones at the end; never edit a merged one. */
-export const migrations = [Foundation1764633600000];
+export const migrations = [Foundation1764633600000, Balance1764720000000];
 
 type DbRole = 'app' | 'owner';
 
