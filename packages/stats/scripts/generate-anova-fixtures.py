@@ -170,7 +170,9 @@ def ancova_reference(y, g, covs, w):
         type1[c] = prev - s
         prev = s
     type1['group'] = prev - sse
-    XtXi = np.linalg.inv(Xw.T @ Xw)  # reference only: well-conditioned generated data
+    _, Rw = np.linalg.qr(Xw)
+    Ri = np.linalg.inv(Rw)
+    XtXi = Ri @ Ri.T  # (X'X)^-1 from the R factor: avoids squaring the condition number
     cbar = (w[:, None] * C).sum(axis=0) / w.sum() if names else np.zeros(0)
     Ls = {}
     for i, lv in enumerate(levels):
