@@ -6,7 +6,7 @@ TypeScript code, from synthetic data drawn with a pinned seed. Floats are writte
 Python's repr, which round-trips doubles exactly, so the fixtures hold full precision.
 
 Run from packages/stats:  python3 scripts/generate-balance-fixtures.py
-Re-running with the same numpy/scipy gives byte-identical files (checked in CI by diffing).
+Re-running with the same numpy/scipy versions gives byte-identical files.
 """
 import json
 import os

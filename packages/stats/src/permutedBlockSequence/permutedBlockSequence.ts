@@ -11,8 +11,11 @@ export type PermutedBlockOptions = {
   blockSizes: number[];
   /** Seed for createRng; store it with the list (one seed per stratum). */
   seed: string;
-  /** Minimum number of assignments; whole blocks are generated until it is reached. */
-  length: number;
+  /**
+   * Minimum number of assignments; whole blocks are generated until it is reached.
+   * Omitted: exactly one block.
+   */
+  length?: number;
 };
 
 export type BlockAssignment = {
@@ -59,7 +62,7 @@ const FN = 'permutedBlockSequence';
  * @throws {TypeError} an option has the wrong type.
  * @throws {RangeError} fewer than two arms or duplicates; ratio of the wrong length or not
  *   positive integers; no block sizes, a size not a positive multiple of sum(ratio), duplicates;
- *   length not a positive integer (or above 1e6); empty seed.
+ *   length given but not a positive integer (or above 1e6); empty seed.
  * @example
  * permutedBlockSequence({ arms: ['A', 'B'], blockSizes: [4, 6], seed: 'demo-stratum-1', length: 20 });
  */
@@ -79,7 +82,7 @@ export function permutedBlockSequence(options: PermutedBlockOptions): PermutedBl
     return s;
   });
   if (new Set(blockSizes).size !== blockSizes.length) throw new RangeError(`${FN}: blockSizes has duplicates: ${blockSizes.join(', ')}`);
-  const length = checkNumber(FN, 'length', options.length, { min: 1, max: 1_000_000, integer: true });
+  const length = options.length === undefined ? 1 : checkNumber(FN, 'length', options.length, { min: 1, max: 1_000_000, integer: true });
   const rng = createRng(options.seed);
   const assignments: BlockAssignment[] = [];
   const blocks: PermutedBlockList['blocks'] = [];

@@ -46,6 +46,11 @@ describe('permutedBlockSequence', () => {
     const patterns = new Set(list.blocks.filter((b) => b.size === 4).map((b) => list.assignments.slice(b.start, b.start + 4).map((x) => x.arm).join('')));
     expect(patterns.size).toBe(6); // all C(4,2) = 6 arrangements of AABB occur
   });
+  it('generates exactly one block when length is omitted', () => {
+    const list = permutedBlockSequence({ arms: ['A', 'B', 'C'], blockSizes: [3, 6], seed: 'one-block' });
+    expect(list.blocks).toHaveLength(1);
+    expect(list.assignments).toHaveLength(list.blocks[0]?.size as number);
+  });
   it('pins the list for one seed (reproducibility: if this changes, bump the version)', () => {
     const list = permutedBlockSequence({ arms: ['A', 'B'], blockSizes: [4], seed: 'pinned', length: 8 });
     const again = permutedBlockSequence({ arms: ['A', 'B'], blockSizes: [4], seed: 'pinned', length: 8 });
@@ -62,7 +67,7 @@ describe('permutedBlockSequence', () => {
     ['fractional block size', { blockSizes: [2.5] }, RangeError, /blockSizes\[0\] must be an integer/],
     ['duplicate block sizes', { blockSizes: [4, 4] }, RangeError, /blockSizes has duplicates/],
     ['zero length', { length: 0 }, RangeError, /length must be at least 1/],
-    ['missing length', { length: undefined }, TypeError, /length must be a number/],
+    ['non-numeric length', { length: '10' }, TypeError, /length must be a number/],
     ['empty seed', { seed: '' }, RangeError, /seed must not be empty/],
   ])('rejects %s', (_l, patch, type, message) => {
     const call = () => permutedBlockSequence({ arms: ['A', 'B'], blockSizes: [4], seed: 's', length: 10, ...(patch as object) } as never);
