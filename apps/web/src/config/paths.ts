@@ -20,7 +20,9 @@ export const paths = {
     },
     tab: {
       href: (studyId: string, tab: string) =>
-        tab === '' ? `/studies/${encodeURIComponent(studyId)}` : `/studies/${encodeURIComponent(studyId)}/${tab}`,
+        tab === ''
+          ? `/studies/${encodeURIComponent(studyId)}`
+          : `/studies/${encodeURIComponent(studyId)}/${tab}`,
     },
   },
   audit: { path: '/audit', href: () => '/audit' },

@@ -19,7 +19,8 @@ export class ApiError extends Error {
 
   /** Field messages of a `validation_failed` error, keyed by dotted path. */
   fieldIssues(): FieldIssue[] {
-    if (this.code !== 'validation_failed' || typeof this.details !== 'object' || this.details === null) return [];
+    if (this.code !== 'validation_failed' || typeof this.details !== 'object' || this.details === null)
+      return [];
     const issues = (this.details as { issues?: unknown }).issues;
     if (!Array.isArray(issues)) return [];
     return issues.flatMap((raw): FieldIssue[] => {
@@ -40,6 +41,11 @@ let csrfToken: string | null = null;
 
 export function setCsrfToken(token: string | null): void {
   csrfToken = token;
+}
+
+/** For requests sent outside `api` (multipart uploads with progress, see lib/upload.ts). */
+export function getCsrfToken(): string | null {
+  return csrfToken;
 }
 
 type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
@@ -63,7 +69,12 @@ async function toApiError(response: Response): Promise<ApiError> {
   return new ApiError(response.status, response.status >= 500 ? 'internal' : 'unknown', message);
 }
 
-async function request(method: Method, path: string, body?: unknown, signal?: AbortSignal): Promise<Response> {
+async function request(
+  method: Method,
+  path: string,
+  body?: unknown,
+  signal?: AbortSignal,
+): Promise<Response> {
   const headers: Record<string, string> = { Accept: 'application/json' };
   if (method !== 'GET') {
     headers['Content-Type'] = 'application/json';
@@ -90,9 +101,14 @@ async function parseJson<S extends z.ZodType>(response: Response, schema: S): Pr
   const json: unknown = await response.json();
   const parsed = schema.safeParse(json);
   if (!parsed.success) {
-    throw new ApiError(response.status, 'bad_response', 'The server sent a response this page does not understand.', {
-      issues: parsed.error.issues,
-    });
+    throw new ApiError(
+      response.status,
+      'bad_response',
+      'The server sent a response this page does not understand.',
+      {
+        issues: parsed.error.issues,
+      },
+    );
   }
   return parsed.data;
 }

@@ -5,7 +5,9 @@ import { studyTabsFor, topNavFor } from './authorization.js';
 const studyA = '11111111-1111-4111-8111-111111111111';
 const studyB = '22222222-2222-4222-8222-222222222222';
 
-function me(partial: Partial<Pick<Me, 'isAdmin' | 'roles' | 'memberships'>>): Pick<Me, 'isAdmin' | 'roles' | 'memberships'> {
+function me(
+  partial: Partial<Pick<Me, 'isAdmin' | 'roles' | 'memberships'>>,
+): Pick<Me, 'isAdmin' | 'roles' | 'memberships'> {
   return { isAdmin: false, roles: [], memberships: [], ...partial };
 }
 
@@ -17,9 +19,12 @@ describe('topNavFor', () => {
     ['statistician', me({ roles: ['statistician'] }), ['studies', 'audit']],
     ['sponsor', me({ roles: ['sponsor'] }), ['studies']],
     ['auditor', me({ roles: ['auditor'] }), ['studies', 'audit']],
-  ] as const)('when the user is %s, then the top navigation is exactly the allowed set', (_name, user, expected) => {
-    expect(topNavFor(user)).toEqual(expected);
-  });
+  ] as const)(
+    'when the user is %s, then the top navigation is exactly the allowed set',
+    (_name, user, expected) => {
+      expect(topNavFor(user)).toEqual(expected);
+    },
+  );
 
   it('when isAdmin is set without the role in the list, then admin items still show', () => {
     expect(topNavFor(me({ isAdmin: true, roles: [] }))).toContain('users');
@@ -44,9 +49,12 @@ describe('studyTabsFor', () => {
     ['sponsor', me({ memberships: [membership(studyA, 'sponsor')] }), ['overview']],
     ['auditor', me({ memberships: [membership(studyA, 'auditor')] }), ['overview', 'audit']],
     ['admin', me({ isAdmin: true }), ['overview', 'design']],
-  ] as const)('when the user is %s of the study, then the tabs are exactly the allowed set', (_n, user, expected) => {
-    expect(studyTabsFor(user, studyA)).toEqual(expected);
-  });
+  ] as const)(
+    'when the user is %s of the study, then the tabs are exactly the allowed set',
+    (_n, user, expected) => {
+      expect(studyTabsFor(user, studyA)).toEqual(expected);
+    },
+  );
 
   it('when the role is held in another study only, then nothing is offered here', () => {
     expect(studyTabsFor(me({ memberships: [membership(studyB, 'statistician')] }), studyA)).toEqual([]);

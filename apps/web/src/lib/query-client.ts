@@ -1,5 +1,5 @@
-import { QueryClient } from '@tanstack/react-query';
-import { isApiError } from './api-client.js';
+import { MutationCache, QueryCache, QueryClient } from '@tanstack/react-query';
+import { isApiError, setCsrfToken } from './api-client.js';
 
 /** Client errors (4xx) are answers, not glitches: retrying them only delays the message. */
 function shouldRetry(failureCount: number, error: unknown): boolean {
@@ -7,7 +7,19 @@ function shouldRetry(failureCount: number, error: unknown): boolean {
   return failureCount < 2;
 }
 
-export const queryClient = new QueryClient({
+/*
+ * A 401 on any call means the session ended (expired, signed out elsewhere, or revoked by a
+ * role change). Clearing the cached user sends the app shell back to the sign-in page.
+ */
+function onSessionLost(error: unknown): void {
+  if (!isApiError(error, 'unauthenticated')) return;
+  setCsrfToken(null);
+  queryClient.setQueryData(['me'], null);
+}
+
+export const queryClient: QueryClient = new QueryClient({
+  queryCache: new QueryCache({ onError: onSessionLost }),
+  mutationCache: new MutationCache({ onError: onSessionLost }),
   defaultOptions: {
     queries: { retry: shouldRetry, staleTime: 30_000, refetchOnWindowFocus: false },
     mutations: { retry: false },

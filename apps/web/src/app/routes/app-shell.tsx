@@ -25,7 +25,11 @@ export function AppShell() {
   if (me.isError) {
     return (
       <main className="mx-auto max-w-2xl px-6 py-16">
-        <ErrorState title="Counterpoise could not reach its server" error={me.error} onRetry={() => void me.refetch()} />
+        <ErrorState
+          title="Counterpoise could not reach its server"
+          error={me.error}
+          onRetry={() => void me.refetch()}
+        />
       </main>
     );
   }
@@ -75,7 +79,9 @@ function Header({ me }: { me: Me }) {
                   className={({ isActive }) =>
                     cn(
                       'inline-flex h-9 items-center rounded-control px-3 text-sm font-semibold',
-                      isActive ? 'bg-spruce-wash text-spruce-deep' : 'text-graphite hover:bg-paper hover:text-ink',
+                      isActive
+                        ? 'bg-spruce-wash text-spruce-deep'
+                        : 'text-graphite hover:bg-paper hover:text-ink',
                     )
                   }
                 >
@@ -90,13 +96,19 @@ function Header({ me }: { me: Me }) {
             <p className="text-sm font-semibold text-ink" data-testid="signed-in-user">
               {me.displayName}
             </p>
-            <p className="text-xs text-graphite">{roles.map((r) => roleLabels[r]).join(' · ') || 'No role yet'}</p>
+            <p className="text-xs text-graphite">
+              {roles.map((r) => roleLabels[r]).join(' · ') || 'No role yet'}
+            </p>
           </div>
           <Button
             variant="secondary"
             size="sm"
             busy={signOut.isPending}
-            onClick={() => signOut.mutate(undefined, { onSettled: () => navigate(paths.auth.signIn.href(), { replace: true }) })}
+            onClick={() =>
+              signOut.mutate(undefined, {
+                onSettled: () => navigate(paths.auth.signIn.href(), { replace: true }),
+              })
+            }
           >
             Sign out
           </Button>

@@ -8,7 +8,11 @@ export function RequireNav({ item, children }: { item: TopNavItem; children: Rea
   const me = useMe();
   if (!me.data) return null;
   if (!topNavFor(me.data).includes(item)) {
-    return <ForbiddenState>Your role does not include this page. Ask an administrator if you need it.</ForbiddenState>;
+    return (
+      <ForbiddenState>
+        Your role does not include this page. Ask an administrator if you need it.
+      </ForbiddenState>
+    );
   }
   return <>{children}</>;
 }

@@ -19,7 +19,10 @@ export function RouteErrorBoundary() {
       </Callout>
       <p className="mt-6">
         {/* A full reload, not router navigation: the router itself may be what failed. */}
-        <a href={paths.studies.list.href()} className="font-semibold text-spruce underline underline-offset-4">
+        <a
+          href={paths.studies.list.href()}
+          className="font-semibold text-spruce underline underline-offset-4"
+        >
           Reload Counterpoise
         </a>
       </p>

@@ -5,7 +5,10 @@ export function StudiesRoute() {
   return (
     <>
       <title>Studies · Counterpoise</title>
-      <PageHeader title="Studies" description="The studies you belong to, with enrollment against target across all sites." />
+      <PageHeader
+        title="Studies"
+        description="The studies you belong to, with enrollment against target across all sites."
+      />
       <StudyList />
     </>
   );

@@ -13,7 +13,15 @@ const tones: Record<BadgeTone, string> = {
   clay: 'bg-clay-wash text-[#7e331a] border-clay/30',
 };
 
-export function Badge({ tone = 'neutral', children, className }: { tone?: BadgeTone; children: ReactNode; className?: string }) {
+export function Badge({
+  tone = 'neutral',
+  children,
+  className,
+}: {
+  tone?: BadgeTone;
+  children: ReactNode;
+  className?: string;
+}) {
   return (
     <span
       className={cn(

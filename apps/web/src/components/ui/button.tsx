@@ -6,7 +6,7 @@ export type ButtonVariant = 'primary' | 'secondary' | 'quiet' | 'danger';
 export type ButtonSize = 'sm' | 'md';
 
 const base =
-  'inline-flex items-center justify-center gap-2 rounded-control font-semibold transition-colors ' +
+  'inline-flex items-center justify-center gap-2 rounded-control font-semibold transition-[color,background-color,border-color] ' +
   'disabled:cursor-not-allowed disabled:opacity-60 whitespace-nowrap';
 
 const variants: Record<ButtonVariant, string> = {
@@ -21,7 +21,11 @@ const sizes: Record<ButtonSize, string> = {
   md: 'h-10 px-4 text-[0.95rem]',
 };
 
-export function buttonClass(variant: ButtonVariant = 'primary', size: ButtonSize = 'md', extra?: string): string {
+export function buttonClass(
+  variant: ButtonVariant = 'primary',
+  size: ButtonSize = 'md',
+  extra?: string,
+): string {
   return cn(base, variants[variant], sizes[size], extra);
 }
 
@@ -32,7 +36,16 @@ type ButtonProps = ButtonHTMLAttributes<HTMLButtonElement> & {
   children: ReactNode;
 };
 
-export function Button({ variant = 'primary', size = 'md', busy = false, className, children, disabled, type, ...rest }: ButtonProps) {
+export function Button({
+  variant = 'primary',
+  size = 'md',
+  busy = false,
+  className,
+  children,
+  disabled,
+  type,
+  ...rest
+}: ButtonProps) {
   return (
     <button
       type={type ?? 'button'}
@@ -41,7 +54,12 @@ export function Button({ variant = 'primary', size = 'md', busy = false, classNa
       aria-busy={busy || undefined}
       {...rest}
     >
-      {busy && <span aria-hidden="true" className="size-3.5 animate-spin rounded-full border-2 border-current border-r-transparent" />}
+      {busy && (
+        <span
+          aria-hidden="true"
+          className="size-3.5 animate-spin rounded-full border-2 border-current border-r-transparent"
+        />
+      )}
       {children}
     </button>
   );
@@ -50,5 +68,10 @@ export function Button({ variant = 'primary', size = 'md', busy = false, classNa
 type ButtonLinkProps = LinkProps & { variant?: ButtonVariant; size?: ButtonSize };
 
 export function ButtonLink({ variant = 'secondary', size = 'md', className, ...rest }: ButtonLinkProps) {
-  return <Link className={buttonClass(variant, size, typeof className === 'string' ? className : undefined)} {...rest} />;
+  return (
+    <Link
+      className={buttonClass(variant, size, typeof className === 'string' ? className : undefined)}
+      {...rest}
+    />
+  );
 }

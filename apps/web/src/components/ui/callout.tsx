@@ -4,10 +4,30 @@ import { cn } from '../../lib/cn.js';
 export type CalloutTone = 'caution' | 'danger' | 'info' | 'success';
 
 const tones: Record<CalloutTone, { box: string; mark: string; glyph: string; label: string }> = {
-  caution: { box: 'bg-ochre-wash border-ochre text-ochre-ink', mark: 'bg-ochre text-white', glyph: '!', label: 'Caution' },
-  danger: { box: 'bg-brick-wash border-brick text-brick', mark: 'bg-brick text-white', glyph: '✕', label: 'Problem' },
-  info: { box: 'bg-harbor-wash border-harbor text-harbor', mark: 'bg-harbor text-white', glyph: 'i', label: 'Note' },
-  success: { box: 'bg-moss-wash border-moss text-moss', mark: 'bg-moss text-white', glyph: '✓', label: 'Done' },
+  caution: {
+    box: 'bg-ochre-wash border-ochre text-ochre-ink',
+    mark: 'bg-ochre text-white',
+    glyph: '!',
+    label: 'Caution',
+  },
+  danger: {
+    box: 'bg-brick-wash border-brick text-brick',
+    mark: 'bg-brick text-white',
+    glyph: '✕',
+    label: 'Problem',
+  },
+  info: {
+    box: 'bg-harbor-wash border-harbor text-harbor',
+    mark: 'bg-harbor text-white',
+    glyph: 'i',
+    label: 'Note',
+  },
+  success: {
+    box: 'bg-moss-wash border-moss text-moss',
+    mark: 'bg-moss text-white',
+    glyph: '✓',
+    label: 'Done',
+  },
 };
 
 type CalloutProps = {
@@ -24,10 +44,17 @@ type CalloutProps = {
 export function Callout({ tone = 'info', title, children, className, role, id }: CalloutProps) {
   const t = tones[tone];
   return (
-    <div id={id} role={role} className={cn('flex gap-3 rounded-control border-l-4 border px-4 py-3', t.box, className)}>
+    <div
+      id={id}
+      role={role}
+      className={cn('flex gap-3 rounded-control border-l-4 border px-4 py-3', t.box, className)}
+    >
       <span
         aria-hidden="true"
-        className={cn('mt-0.5 flex size-5 shrink-0 items-center justify-center rounded-full text-xs font-bold', t.mark)}
+        className={cn(
+          'mt-0.5 flex size-5 shrink-0 items-center justify-center rounded-full text-xs font-bold',
+          t.mark,
+        )}
       >
         {t.glyph}
       </span>

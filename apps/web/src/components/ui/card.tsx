@@ -5,7 +5,12 @@ export function Card({ className, ...rest }: HTMLAttributes<HTMLDivElement>) {
   return <div className={cn('rounded-card border border-rule bg-vellum shadow-card', className)} {...rest} />;
 }
 
-type CardHeaderProps = { title: ReactNode; description?: ReactNode; actions?: ReactNode; headingLevel?: 2 | 3 };
+type CardHeaderProps = {
+  title: ReactNode;
+  description?: ReactNode;
+  actions?: ReactNode;
+  headingLevel?: 2 | 3;
+};
 
 export function CardHeader({ title, description, actions, headingLevel = 2 }: CardHeaderProps) {
   const Heading = headingLevel === 2 ? 'h2' : 'h3';

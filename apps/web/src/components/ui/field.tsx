@@ -1,4 +1,11 @@
-import { useId, type InputHTMLAttributes, type ReactNode, type Ref, type SelectHTMLAttributes, type TextareaHTMLAttributes } from 'react';
+import {
+  useId,
+  type InputHTMLAttributes,
+  type ReactNode,
+  type Ref,
+  type SelectHTMLAttributes,
+  type TextareaHTMLAttributes,
+} from 'react';
 import { cn } from '../../lib/cn.js';
 
 const controlBase =
@@ -57,11 +64,27 @@ type CommonProps = {
 
 type TextFieldProps = CommonProps & InputHTMLAttributes<HTMLInputElement> & { ref?: Ref<HTMLInputElement> };
 
-export function TextField({ label, hint, error, frameClassName, id, className, required, ...rest }: TextFieldProps) {
+export function TextField({
+  label,
+  hint,
+  error,
+  frameClassName,
+  id,
+  className,
+  required,
+  ...rest
+}: TextFieldProps) {
   const autoId = useId();
   const fieldId = id ?? autoId;
   return (
-    <FieldFrame id={fieldId} label={label} hint={hint} error={error} required={required} className={frameClassName}>
+    <FieldFrame
+      id={fieldId}
+      label={label}
+      hint={hint}
+      error={error}
+      required={required}
+      className={frameClassName}
+    >
       <input
         id={fieldId}
         className={cn(controlBase, 'h-10 border-pebble', className)}
@@ -74,13 +97,30 @@ export function TextField({ label, hint, error, frameClassName, id, className, r
   );
 }
 
-type TextareaFieldProps = CommonProps & TextareaHTMLAttributes<HTMLTextAreaElement> & { ref?: Ref<HTMLTextAreaElement> };
+type TextareaFieldProps = CommonProps &
+  TextareaHTMLAttributes<HTMLTextAreaElement> & { ref?: Ref<HTMLTextAreaElement> };
 
-export function TextareaField({ label, hint, error, frameClassName, id, className, required, ...rest }: TextareaFieldProps) {
+export function TextareaField({
+  label,
+  hint,
+  error,
+  frameClassName,
+  id,
+  className,
+  required,
+  ...rest
+}: TextareaFieldProps) {
   const autoId = useId();
   const fieldId = id ?? autoId;
   return (
-    <FieldFrame id={fieldId} label={label} hint={hint} error={error} required={required} className={frameClassName}>
+    <FieldFrame
+      id={fieldId}
+      label={label}
+      hint={hint}
+      error={error}
+      required={required}
+      className={frameClassName}
+    >
       <textarea
         id={fieldId}
         className={cn(controlBase, 'min-h-20 border-pebble py-2', className)}
@@ -93,13 +133,31 @@ export function TextareaField({ label, hint, error, frameClassName, id, classNam
   );
 }
 
-type SelectFieldProps = CommonProps & SelectHTMLAttributes<HTMLSelectElement> & { ref?: Ref<HTMLSelectElement> };
+type SelectFieldProps = CommonProps &
+  SelectHTMLAttributes<HTMLSelectElement> & { ref?: Ref<HTMLSelectElement> };
 
-export function SelectField({ label, hint, error, frameClassName, id, className, required, children, ...rest }: SelectFieldProps) {
+export function SelectField({
+  label,
+  hint,
+  error,
+  frameClassName,
+  id,
+  className,
+  required,
+  children,
+  ...rest
+}: SelectFieldProps) {
   const autoId = useId();
   const fieldId = id ?? autoId;
   return (
-    <FieldFrame id={fieldId} label={label} hint={hint} error={error} required={required} className={frameClassName}>
+    <FieldFrame
+      id={fieldId}
+      label={label}
+      hint={hint}
+      error={error}
+      required={required}
+      className={frameClassName}
+    >
       <select
         id={fieldId}
         className={cn(controlBase, 'h-10 border-pebble pr-8', className)}

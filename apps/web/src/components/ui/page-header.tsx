@@ -1,6 +1,11 @@
 import type { ReactNode } from 'react';
 
-type PageHeaderProps = { title: ReactNode; eyebrow?: ReactNode; description?: ReactNode; actions?: ReactNode };
+type PageHeaderProps = {
+  title: ReactNode;
+  eyebrow?: ReactNode;
+  description?: ReactNode;
+  actions?: ReactNode;
+};
 
 export function PageHeader({ title, eyebrow, description, actions }: PageHeaderProps) {
   return (

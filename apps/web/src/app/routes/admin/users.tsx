@@ -9,7 +9,10 @@ export function AdminUsersRoute() {
   return (
     <RequireNav item="users">
       <title>Users · Counterpoise</title>
-      <PageHeader title="Users" description="Accounts, study roles and site assignments. Every change is audited with its reason." />
+      <PageHeader
+        title="Users"
+        description="Accounts, study roles and site assignments. Every change is audited with its reason."
+      />
       {studies.isPending && <LoadingState label="Loading studies…" />}
       {studies.isError && <ErrorState error={studies.error} onRetry={() => void studies.refetch()} />}
       {studies.data && <UsersAdmin studies={studies.data} />}

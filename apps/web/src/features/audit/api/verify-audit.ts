@@ -7,7 +7,11 @@ export async function verifyAudit(signal?: AbortSignal): Promise<AuditVerify> {
 }
 
 export const verifyAuditQueryOptions = () =>
-  queryOptions({ queryKey: ['audit', 'verify'] as const, queryFn: ({ signal }) => verifyAudit(signal), staleTime: 0 });
+  queryOptions({
+    queryKey: ['audit', 'verify'] as const,
+    queryFn: ({ signal }) => verifyAudit(signal),
+    staleTime: 0,
+  });
 
 /** Walks the whole hash chain on the server; runs only when asked (`refetch`). */
 export function useVerifyAudit() {

@@ -21,7 +21,10 @@ export function AuditBrowser({ studies, fixedStudyId }: AuditBrowserProps) {
   return (
     <div className="flex flex-col gap-6">
       <Card>
-        <CardHeader title="Integrity" description="The trail is append-only; each event is chained to the one before." />
+        <CardHeader
+          title="Integrity"
+          description="The trail is append-only; each event is chained to the one before."
+        />
         <CardBody>
           <VerifyPanel />
         </CardBody>
@@ -68,7 +71,9 @@ export function AuditBrowser({ studies, fixedStudyId }: AuditBrowserProps) {
         {page.isPending && <LoadingState label="Loading audit events…" />}
         {page.isError && <ErrorState error={page.error} onRetry={() => void page.refetch()} />}
         {page.data && page.data.events.length === 0 && (
-          <EmptyState title="No events match">Widen the filters, or clear them to see the whole trail.</EmptyState>
+          <EmptyState title="No events match">
+            Widen the filters, or clear them to see the whole trail.
+          </EmptyState>
         )}
         {page.data && page.data.events.length > 0 && <AuditTable events={page.data.events} />}
         {page.data && (

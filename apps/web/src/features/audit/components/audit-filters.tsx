@@ -1,6 +1,7 @@
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
+import { studyOptionLabel } from '../../../lib/study-label.js';
 import { Button } from '../../../components/ui/button.js';
 import { SelectField, TextField } from '../../../components/ui/field.js';
 import type { AuditFilters } from '../api/get-audit-events.js';
@@ -82,16 +83,37 @@ export function AuditFiltersForm({ studies, fixedStudyId, onApply }: AuditFilter
             <option value="">All studies and account events</option>
             {studies.map((s) => (
               <option key={s.id} value={s.id}>
-                {s.code} · {s.title}
+                {studyOptionLabel(s)}
               </option>
             ))}
           </SelectField>
         )}
-        <TextField label="Action" placeholder="e.g. auth.sign_in" error={errors.action?.message} {...register('action')} />
-        <TextField label="Entity type" placeholder="e.g. participant" error={errors.entityType?.message} {...register('entityType')} />
+        <TextField
+          label="Action"
+          placeholder="e.g. auth.sign_in"
+          error={errors.action?.message}
+          {...register('action')}
+        />
+        <TextField
+          label="Entity type"
+          placeholder="e.g. participant"
+          error={errors.entityType?.message}
+          {...register('entityType')}
+        />
         <TextField label="Entity id" error={errors.entityId?.message} {...register('entityId')} />
-        <TextField label="Actor e-mail" type="text" autoComplete="off" error={errors.actor?.message} {...register('actor')} />
-        <TextField label="From (UTC)" type="datetime-local" error={errors.from?.message} {...register('from')} />
+        <TextField
+          label="Actor e-mail"
+          type="text"
+          autoComplete="off"
+          error={errors.actor?.message}
+          {...register('actor')}
+        />
+        <TextField
+          label="From (UTC)"
+          type="datetime-local"
+          error={errors.from?.message}
+          {...register('from')}
+        />
         <TextField label="To (UTC)" type="datetime-local" error={errors.to?.message} {...register('to')} />
         <SelectField label="Rows per page" {...register('limit')}>
           <option value="25">25</option>

@@ -7,7 +7,12 @@ const column = createColumnHelper<AuditEventDto>();
 
 function utc(iso: string): string {
   const d = new Date(iso);
-  return Number.isNaN(d.getTime()) ? iso : d.toISOString().replace('T', ' ').replace(/\.\d{3}Z$/, 'Z');
+  return Number.isNaN(d.getTime())
+    ? iso
+    : d
+        .toISOString()
+        .replace('T', ' ')
+        .replace(/\.\d{3}Z$/, 'Z');
 }
 
 function Json({ value }: { value: unknown }) {
@@ -91,7 +96,12 @@ export function AuditTable({ events }: { events: AuditEventDto[] }) {
     [open],
   );
 
-  const table = useReactTable({ data: events, columns, getCoreRowModel: getCoreRowModel(), getRowId: (e) => e.id });
+  const table = useReactTable({
+    data: events,
+    columns,
+    getCoreRowModel: getCoreRowModel(),
+    getRowId: (e) => e.id,
+  });
 
   return (
     <Table>
@@ -100,7 +110,9 @@ export function AuditTable({ events }: { events: AuditEventDto[] }) {
         {table.getHeaderGroups().map((group) => (
           <TR key={group.id}>
             {group.headers.map((h) => (
-              <TH key={h.id}>{h.isPlaceholder ? null : flexRender(h.column.columnDef.header, h.getContext())}</TH>
+              <TH key={h.id}>
+                {h.isPlaceholder ? null : flexRender(h.column.columnDef.header, h.getContext())}
+              </TH>
             ))}
           </TR>
         ))}
@@ -118,11 +130,15 @@ export function AuditTable({ events }: { events: AuditEventDto[] }) {
                 <td colSpan={row.getVisibleCells().length} className="px-4 py-4">
                   <div className="grid gap-4 md:grid-cols-2">
                     <div>
-                      <p className="mb-1 text-xs font-semibold tracking-wide text-graphite uppercase">Before</p>
+                      <p className="mb-1 text-xs font-semibold tracking-wide text-graphite uppercase">
+                        Before
+                      </p>
                       <Json value={row.original.before} />
                     </div>
                     <div>
-                      <p className="mb-1 text-xs font-semibold tracking-wide text-graphite uppercase">After</p>
+                      <p className="mb-1 text-xs font-semibold tracking-wide text-graphite uppercase">
+                        After
+                      </p>
                       <Json value={row.original.after} />
                     </div>
                   </div>

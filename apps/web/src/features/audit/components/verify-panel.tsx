@@ -18,7 +18,9 @@ export function VerifyPanel() {
         <Button variant="secondary" busy={verify.isFetching} onClick={() => void verify.refetch()}>
           Verify the chain
         </Button>
-        <p className="text-sm text-graphite">Checks every event’s SHA-256 hash and its link to the one before.</p>
+        <p className="text-sm text-graphite">
+          Checks every event’s SHA-256 hash and its link to the one before.
+        </p>
       </div>
       <div aria-live="polite" aria-atomic="true">
         {verify.isError && !verify.isFetching && (
@@ -29,8 +31,8 @@ export function VerifyPanel() {
         {result && !verify.isFetching && result.ok && (
           <Callout tone="success" title="Audit trail intact">
             <p>
-              <span className="figure">{result.checked.toLocaleString('en')}</span> events checked; every hash matches and
-              every link holds.
+              <span className="figure">{result.checked.toLocaleString('en')}</span> events checked; every hash
+              matches and every link holds.
             </p>
             {result.lastHash && (
               <p className="mt-1 text-xs">
@@ -44,7 +46,8 @@ export function VerifyPanel() {
             <p>
               {result.firstBroken ? (
                 <>
-                  The first broken link is event <span className="figure font-semibold">#{result.firstBroken.seq}</span>:{' '}
+                  The first broken link is event{' '}
+                  <span className="figure font-semibold">#{result.firstBroken.seq}</span>:{' '}
                   {problemText[result.firstBroken.problem]}.
                 </>
               ) : (

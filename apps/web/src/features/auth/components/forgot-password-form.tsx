@@ -37,10 +37,12 @@ export function ForgotPasswordForm() {
         {sentTo && (
           <Callout tone="success" title="Check your inbox">
             <p>
-              If an account exists for <span className="font-semibold">{sentTo}</span>, a link to choose a new password is
-              on its way. The link works once and expires.
+              If an account exists for <span className="font-semibold">{sentTo}</span>, a link to choose a new
+              password is on its way. The link works once and expires.
             </p>
-            <p className="mt-1">On a local installation the message lands in the administrator's Outbox page.</p>
+            <p className="mt-1">
+              On a local installation the message lands in the administrator's Outbox page.
+            </p>
           </Callout>
         )}
       </div>

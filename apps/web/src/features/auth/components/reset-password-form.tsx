@@ -22,7 +22,10 @@ export function ResetPasswordForm({ token }: { token: string }) {
     handleSubmit,
     setError,
     formState: { errors },
-  } = useForm({ resolver: zodResolver(newPasswordPairSchema), defaultValues: { password: '', confirmPassword: '' } });
+  } = useForm({
+    resolver: zodResolver(newPasswordPairSchema),
+    defaultValues: { password: '', confirmPassword: '' },
+  });
 
   const onSubmit = handleSubmit(async ({ password }) => {
     setFormError(null);

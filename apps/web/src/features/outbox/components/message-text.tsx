@@ -12,7 +12,12 @@ export function MessageText({ text }: { text: string }) {
     <pre className="overflow-x-auto font-sans text-[0.95rem] leading-relaxed break-words whitespace-pre-wrap text-ink">
       {parts.map((part, i) =>
         i % 2 === 1 ? (
-          <a key={i} href={part} rel="noreferrer" className="font-semibold break-all text-spruce underline underline-offset-4">
+          <a
+            key={i}
+            href={part}
+            rel="noreferrer"
+            className="font-semibold break-all text-spruce underline underline-offset-4"
+          >
             {part}
           </a>
         ) : (

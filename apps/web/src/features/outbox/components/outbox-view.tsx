@@ -38,7 +38,8 @@ export function OutboxView() {
     <div className="flex flex-col gap-4">
       <div className="flex items-center justify-between gap-3">
         <p className="text-sm text-graphite" aria-live="polite">
-          <span className="figure">{messages.length}</span> {messages.length === 1 ? 'message' : 'messages'}, newest first
+          <span className="figure">{messages.length}</span> {messages.length === 1 ? 'message' : 'messages'},
+          newest first
         </p>
         <Button variant="secondary" size="sm" busy={outbox.isFetching} onClick={() => void outbox.refetch()}>
           Refresh
@@ -94,7 +95,12 @@ function MessagePane({ message }: { message: OutboxMessage }) {
     <Card>
       <article aria-labelledby="outbox-message-subject">
         <header className="border-b border-rule px-5 py-4">
-          <h2 id="outbox-message-subject" ref={headingRef} tabIndex={-1} className="text-lg font-semibold text-ink">
+          <h2
+            id="outbox-message-subject"
+            ref={headingRef}
+            tabIndex={-1}
+            className="text-lg font-semibold text-ink"
+          >
             {message.subject || '(no subject)'}
           </h2>
           <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-0.5 text-sm">

@@ -18,5 +18,8 @@ export function useStudies() {
 
 /** One study out of the list the user may see; there is no separate per-study endpoint yet. */
 export function useStudy(studyId: string) {
-  return useQuery({ ...studiesQueryOptions(), select: (studies) => studies.find((s) => s.id === studyId) ?? null });
+  return useQuery({
+    ...studiesQueryOptions(),
+    select: (studies) => studies.find((s) => s.id === studyId) ?? null,
+  });
 }

@@ -6,7 +6,10 @@ const kindLabel: Record<StudySummary['kind'], string> = {
   observational_cohort: 'Observational cohort',
 };
 
-const blindingLabel: Record<StudySummary['blinding'], string> = { blinded: 'Blinded', open_label: 'Open label' };
+const blindingLabel: Record<StudySummary['blinding'], string> = {
+  blinded: 'Blinded',
+  open_label: 'Open label',
+};
 
 const statusLabel: Record<StudySummary['status'], { text: string; tone: BadgeTone }> = {
   setup: { text: 'In set-up', tone: 'neutral' },

@@ -15,7 +15,8 @@ export function StudyList() {
   if (studies.data.length === 0) {
     return (
       <EmptyState title="No studies yet">
-        You are not a member of any study. An administrator adds you to a study with a role; it then appears here.
+        You are not a member of any study. An administrator adds you to a study with a role; it then appears
+        here.
       </EmptyState>
     );
   }
@@ -60,7 +61,11 @@ function StudyTable({ studies }: { studies: StudySummary[] }) {
               <StatusBadge status={study.status} />
             </TD>
             <TD>
-              <ProgressMeter value={study.enrolled} max={study.targetSampleSize} label={`Enrollment of ${study.code}`} />
+              <ProgressMeter
+                value={study.enrolled}
+                max={study.targetSampleSize}
+                label={`Enrollment of ${study.code}`}
+              />
             </TD>
             <TD className="figure text-right">{study.siteCount}</TD>
             <TD className="text-graphite">{describeRole(study.myRole)}</TD>

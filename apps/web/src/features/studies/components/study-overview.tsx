@@ -23,7 +23,9 @@ export function StudyOverview({ study }: { study: StudySummary }) {
         <CardHeader title="Enrollment" description="All sites pooled, against the target sample size." />
         <CardBody className="flex flex-col gap-4">
           <p className="flex items-baseline gap-2">
-            <span className="figure text-4xl font-medium text-ink">{study.enrolled.toLocaleString('en')}</span>
+            <span className="figure text-4xl font-medium text-ink">
+              {study.enrolled.toLocaleString('en')}
+            </span>
             <span className="text-graphite">
               of <span className="figure">{study.targetSampleSize.toLocaleString('en')}</span> participants
               {study.targetSampleSize > 0 && (
@@ -34,7 +36,12 @@ export function StudyOverview({ study }: { study: StudySummary }) {
               )}
             </span>
           </p>
-          <ProgressMeter value={study.enrolled} max={study.targetSampleSize} label="Enrollment against target" />
+          <ProgressMeter
+            value={study.enrolled}
+            max={study.targetSampleSize}
+            label="Enrollment against target"
+            showFigures={false}
+          />
         </CardBody>
       </Card>
       <Card>
@@ -59,7 +66,8 @@ export function StudyOverview({ study }: { study: StudySummary }) {
       </Card>
       {study.blinding === 'blinded' && (
         <Callout tone="info" className="lg:col-span-3" title="Blinded study">
-          Figures broken down by arm are shown only to the unblinded statistician. Everyone else sees pooled figures.
+          Figures broken down by arm are shown only to the unblinded statistician. Everyone else sees pooled
+          figures.
         </Callout>
       )}
     </div>

@@ -3,7 +3,11 @@ import { studySiteListSchema, type StudySite } from '@counterpoise/contracts/adm
 import { api } from '../../../lib/api-client.js';
 
 export async function getStudySites(studyId: string, signal?: AbortSignal): Promise<StudySite[]> {
-  const { sites } = await api.get(`/studies/${encodeURIComponent(studyId)}/sites`, studySiteListSchema, signal);
+  const { sites } = await api.get(
+    `/studies/${encodeURIComponent(studyId)}/sites`,
+    studySiteListSchema,
+    signal,
+  );
   return sites;
 }
 

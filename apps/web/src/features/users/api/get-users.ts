@@ -9,7 +9,8 @@ export async function getUsers(signal?: AbortSignal): Promise<AdminUser[]> {
   return users;
 }
 
-export const usersQueryOptions = () => queryOptions({ queryKey: usersQueryKey, queryFn: ({ signal }) => getUsers(signal) });
+export const usersQueryOptions = () =>
+  queryOptions({ queryKey: usersQueryKey, queryFn: ({ signal }) => getUsers(signal) });
 
 export function useUsers() {
   return useQuery(usersQueryOptions());

@@ -6,7 +6,13 @@ import { usersQueryOptions } from './get-users.js';
 
 export type UserAccessUpdate = z.output<typeof membershipUpdateSchema>;
 
-export async function updateUser({ userId, body }: { userId: string; body: UserAccessUpdate }): Promise<void> {
+export async function updateUser({
+  userId,
+  body,
+}: {
+  userId: string;
+  body: UserAccessUpdate;
+}): Promise<void> {
   await api.sendNoContent('PATCH', `/admin/users/${encodeURIComponent(userId)}`, body);
 }
 

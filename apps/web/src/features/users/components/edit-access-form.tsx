@@ -2,6 +2,7 @@ import { useEffect, useRef, useState } from 'react';
 import { FormProvider, useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { membershipUpdateSchema } from '@counterpoise/contracts/auth';
+import { reasonSchema } from '@counterpoise/contracts/common';
 import type { AdminUser } from '@counterpoise/contracts/admin';
 import { Button } from '../../../components/ui/button.js';
 import { Card, CardBody } from '../../../components/ui/card.js';
@@ -18,6 +19,9 @@ type EditAccessFormProps = {
   onCancel: () => void;
 };
 
+// Same body as the API takes, with the friendlier reason message from the shared schema.
+const editAccessSchema = membershipUpdateSchema.extend({ reason: reasonSchema });
+
 /** Changes to roles are audited edits, so a reason is required (DOMAIN.md, audit trail). */
 export function EditAccessForm({ user, studies, onDone, onCancel }: EditAccessFormProps) {
   const update = useUpdateUser();
@@ -25,7 +29,7 @@ export function EditAccessForm({ user, studies, onDone, onCancel }: EditAccessFo
   const [formError, setFormError] = useState<string | null>(null);
   const [formExtra, setFormExtra] = useState<string[]>([]);
   const form = useForm({
-    resolver: zodResolver(membershipUpdateSchema),
+    resolver: zodResolver(editAccessSchema),
     defaultValues: {
       isAdmin: user.isAdmin,
       status: user.status === 'disabled' ? 'disabled' : 'active',
@@ -70,16 +74,27 @@ export function EditAccessForm({ user, studies, onDone, onCancel }: EditAccessFo
       </div>
       <CardBody>
         <FormProvider {...form}>
-          <form onSubmit={onSubmit} noValidate className="flex flex-col gap-5" aria-label={`Edit access for ${user.displayName}`}>
+          <form
+            onSubmit={onSubmit}
+            noValidate
+            className="flex flex-col gap-5"
+            aria-label={`Edit access for ${user.displayName}`}
+          >
             <FormAlert message={formError} extra={formExtra} />
             <div className="grid gap-4 sm:grid-cols-2">
               <SelectField
                 label="Account"
-                hint={user.status === 'invited' ? 'Invited: the account becomes active when the invitation is accepted.' : undefined}
+                hint={
+                  user.status === 'invited'
+                    ? 'Invited: the account becomes active when the invitation is accepted.'
+                    : undefined
+                }
                 error={errors.status?.message}
                 {...register('status')}
               >
-                <option value="active">{user.status === 'invited' ? 'Invited (leave as is)' : 'Active'}</option>
+                <option value="active">
+                  {user.status === 'invited' ? 'Invited (leave as is)' : 'Active'}
+                </option>
                 <option value="disabled">Disabled: cannot sign in</option>
               </SelectField>
               <div className="sm:pt-7">

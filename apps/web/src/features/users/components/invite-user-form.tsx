@@ -36,7 +36,9 @@ export function InviteUserForm({ studies }: { studies: StudyOption[] }) {
       setInvited(values.email);
       reset();
     } catch (error) {
-      setFormExtra(applyServerFieldErrors(error, setError, ['email', 'displayName', 'isAdmin', 'memberships']));
+      setFormExtra(
+        applyServerFieldErrors(error, setError, ['email', 'displayName', 'isAdmin', 'memberships']),
+      );
       setFormError(errorMessage(error));
     }
   });
@@ -44,18 +46,33 @@ export function InviteUserForm({ studies }: { studies: StudyOption[] }) {
   return (
     <FormProvider {...form}>
       <form onSubmit={onSubmit} noValidate className="flex flex-col gap-5" aria-label="Invite a user">
-        <div aria-live="polite">
-          {invited && (
-            <Callout tone="success" title="Invitation sent">
-              An invitation went to <span className="font-semibold">{invited}</span>. On a local installation you can
-              open it on the Outbox page.
-            </Callout>
-          )}
+        <div>
+          <div aria-live="polite">
+            {invited && (
+              <Callout tone="success" title="Invitation sent" className="mb-3">
+                An invitation went to <span className="font-semibold">{invited}</span>. On a local
+                installation you can open it on the Outbox page.
+              </Callout>
+            )}
+          </div>
+          <FormAlert message={formError} extra={formExtra} />
         </div>
-        <FormAlert message={formError} extra={formExtra} />
         <div className="grid gap-4 sm:grid-cols-2">
-          <TextField label="E-mail" type="email" autoComplete="off" required error={errors.email?.message} {...register('email')} />
-          <TextField label="Name" autoComplete="off" required error={errors.displayName?.message} {...register('displayName')} />
+          <TextField
+            label="E-mail"
+            type="email"
+            autoComplete="off"
+            required
+            error={errors.email?.message}
+            {...register('email')}
+          />
+          <TextField
+            label="Name"
+            autoComplete="off"
+            required
+            error={errors.displayName?.message}
+            {...register('displayName')}
+          />
         </div>
         <CheckboxField
           label="Administrator"

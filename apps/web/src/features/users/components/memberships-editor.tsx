@@ -1,5 +1,6 @@
 import { Controller, useFieldArray, useFormContext, useWatch, type FieldErrors } from 'react-hook-form';
 import type { StudyRole } from '@counterpoise/contracts/common';
+import { studyOptionLabel } from '../../../lib/study-label.js';
 import { Button } from '../../../components/ui/button.js';
 import { SelectField } from '../../../components/ui/field.js';
 import { Spinner } from '../../../components/ui/states.js';
@@ -26,7 +27,9 @@ export function MembershipsEditor({ studies }: { studies: StudyOption[] }) {
   return (
     <fieldset className="flex flex-col gap-3">
       <legend className="mb-1 text-sm font-semibold text-ink">Study roles</legend>
-      {fields.length === 0 && <p className="text-sm text-graphite">No study roles. The account can sign in but sees no study.</p>}
+      {fields.length === 0 && (
+        <p className="text-sm text-graphite">No study roles. The account can sign in but sees no study.</p>
+      )}
       <ol className="flex flex-col gap-3">
         {fields.map((field, index) => (
           <li key={field.id}>
@@ -48,7 +51,15 @@ export function MembershipsEditor({ studies }: { studies: StudyOption[] }) {
   );
 }
 
-function MembershipRowEditor({ index, studies, onRemove }: { index: number; studies: StudyOption[]; onRemove: () => void }) {
+function MembershipRowEditor({
+  index,
+  studies,
+  onRemove,
+}: {
+  index: number;
+  studies: StudyOption[];
+  onRemove: () => void;
+}) {
   const {
     register,
     control,
@@ -60,11 +71,15 @@ function MembershipRowEditor({ index, studies, onRemove }: { index: number; stud
 
   return (
     <div className="rounded-control border border-rule bg-paper/50 p-3">
-      <div className="grid gap-3 sm:grid-cols-[1fr_1fr_auto] sm:items-end">
-        <SelectField label="Study" error={rowErrors?.studyId?.message} {...register(`memberships.${index}.studyId`)}>
+      <div className="grid gap-3 sm:grid-cols-[1fr_1fr_auto] sm:items-start">
+        <SelectField
+          label="Study"
+          error={rowErrors?.studyId?.message}
+          {...register(`memberships.${index}.studyId`)}
+        >
           {studies.map((s) => (
             <option key={s.id} value={s.id}>
-              {s.code} · {s.title}
+              {studyOptionLabel(s)}
             </option>
           ))}
         </SelectField>
@@ -80,7 +95,13 @@ function MembershipRowEditor({ index, studies, onRemove }: { index: number; stud
             </option>
           ))}
         </SelectField>
-        <Button variant="quiet" size="sm" onClick={onRemove} aria-label={`Remove study role ${index + 1}`} className="sm:mb-1">
+        <Button
+          variant="quiet"
+          size="sm"
+          onClick={onRemove}
+          aria-label={`Remove study role ${index + 1}`}
+          className="sm:mt-7"
+        >
           Remove
         </Button>
       </div>
@@ -91,7 +112,15 @@ function MembershipRowEditor({ index, studies, onRemove }: { index: number; stud
   );
 }
 
-function SitePicker({ index, studyId, error }: { index: number; studyId: string; error: string | undefined }) {
+function SitePicker({
+  index,
+  studyId,
+  error,
+}: {
+  index: number;
+  studyId: string;
+  error: string | undefined;
+}) {
   const { control } = useFormContext<MembershipsShape>();
   const sites = useStudySites(studyId);
   const legendId = `memberships-${index}-sites`;

@@ -11,8 +11,16 @@ import { EditAccessForm } from './edit-access-form.js';
 import { InviteUserForm } from './invite-user-form.js';
 import { studyRoleOptions, type StudyOption } from './memberships-editor.js';
 
-const statusTone: Record<AdminUser['status'], BadgeTone> = { invited: 'ochre', active: 'moss', disabled: 'neutral' };
-const statusText: Record<AdminUser['status'], string> = { invited: 'Invited', active: 'Active', disabled: 'Disabled' };
+const statusTone: Record<AdminUser['status'], BadgeTone> = {
+  invited: 'ochre',
+  active: 'moss',
+  disabled: 'neutral',
+};
+const statusText: Record<AdminUser['status'], string> = {
+  invited: 'Invited',
+  active: 'Active',
+  disabled: 'Disabled',
+};
 
 export function UsersAdmin({ studies }: { studies: StudyOption[] }) {
   const users = useUsers();
@@ -29,7 +37,9 @@ export function UsersAdmin({ studies }: { studies: StudyOption[] }) {
         <div aria-live="polite">{notice && <Callout tone="success">{notice}</Callout>}</div>
         {users.isPending && <LoadingState label="Loading accounts…" />}
         {users.isError && <ErrorState error={users.error} onRetry={() => void users.refetch()} />}
-        {users.data && users.data.length === 0 && <EmptyState title="No accounts yet">Invite the first user below.</EmptyState>}
+        {users.data && users.data.length === 0 && (
+          <EmptyState title="No accounts yet">Invite the first user below.</EmptyState>
+        )}
         {users.data && users.data.length > 0 && (
           <UsersTable
             users={users.data}
@@ -78,7 +88,8 @@ function UsersTable({
   editingId: string | null;
   onEdit: (id: string) => void;
 }) {
-  const roleText = (role: string) => studyRoleOptions.find((o) => o.value === role)?.label.replace(/ \(.*\)$/, '') ?? role;
+  const roleText = (role: string) =>
+    studyRoleOptions.find((o) => o.value === role)?.label.replace(/ \(.*\)$/, '') ?? role;
   const studyCode = (id: string, fallback: string) => studies.find((s) => s.id === id)?.code ?? fallback;
 
   return (
@@ -118,16 +129,24 @@ function UsersTable({
                     {m.role === 'coordinator' && (
                       <span className="text-graphite">
                         {' '}
-                        · <span className="figure">{m.siteIds.length}</span> {m.siteIds.length === 1 ? 'site' : 'sites'}
+                        · <span className="figure">{m.siteIds.length}</span>{' '}
+                        {m.siteIds.length === 1 ? 'site' : 'sites'}
                       </span>
                     )}
                   </li>
                 ))}
-                {!user.isAdmin && user.memberships.length === 0 && <li className="text-sm text-graphite">No roles</li>}
+                {!user.isAdmin && user.memberships.length === 0 && (
+                  <li className="text-sm text-graphite">No roles</li>
+                )}
               </ul>
             </TD>
             <TD className="text-right">
-              <Button variant="secondary" size="sm" onClick={() => onEdit(user.id)} aria-label={`Edit access for ${user.displayName}`}>
+              <Button
+                variant="secondary"
+                size="sm"
+                onClick={() => onEdit(user.id)}
+                aria-label={`Edit access for ${user.displayName}`}
+              >
                 Edit access
               </Button>
             </TD>

@@ -1,0 +1,157 @@
+import { Fragment, useId, useState } from 'react';
+import { balanceCautions, type BaselineTable } from '@counterpoise/contracts/balance';
+import { Callout } from '../../../components/ui/callout.js';
+import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
+import { CheckboxField } from '../../../components/ui/field.js';
+import { ErrorState, LoadingState } from '../../../components/ui/states.js';
+import { Table, TBody, TD, TH, THead, TR } from '../../../components/ui/table.js';
+import { buttonClass } from '../../../components/ui/button.js';
+import { baselineTableCsvHref, useBaselineTable } from '../api/get-baseline-table.js';
+import { formatNumber } from './format.js';
+
+type Row = BaselineTable['rows'][number];
+
+const statisticLabel: Record<Row['statistic'], string> = {
+  mean_sd: 'mean (SD)',
+  median_iqr: 'median [IQR]',
+  level: '',
+  missing: 'missing',
+};
+
+function groupRows(rows: Row[]): Array<{ key: string; label: string; rows: Row[] }> {
+  const groups: Array<{ key: string; label: string; rows: Row[] }> = [];
+  for (const row of rows) {
+    const last = groups[groups.length - 1];
+    if (last && last.key === row.covariateKey) last.rows.push(row);
+    else groups.push({ key: row.covariateKey, label: row.label, rows: [row] });
+  }
+  return groups;
+}
+
+function formatP(p: number | null): string {
+  if (p === null) return '—';
+  if (p < 0.001) return '< 0.001';
+  return formatNumber(p, 3);
+}
+
+/** The baseline table by arm and overall; p-values only on request, each time with the CONSORT caution. */
+export function BaselineTableCard({ studyId }: { studyId: string }) {
+  const [showP, setShowP] = useState(false);
+  const table = useBaselineTable(studyId, showP);
+  const captionId = useId();
+
+  return (
+    <Card>
+      <CardHeader
+        title="Baseline characteristics"
+        description="By arm and overall: mean (SD) and median [IQR] for measurements, n (%) for categories, and missing counts. Withdrawn participants stay in (intention-to-treat)."
+        actions={
+          <a
+            className={buttonClass('secondary', 'sm')}
+            href={baselineTableCsvHref(studyId, showP)}
+            download
+            data-testid="baseline-csv"
+          >
+            Download CSV
+          </a>
+        }
+      />
+      <CardBody className="flex flex-col gap-4">
+        <CheckboxField
+          label="Show baseline p-values, labelled"
+          hint="Off by default. In a randomized trial they test a difference known to be chance."
+          checked={showP}
+          onChange={(event) => setShowP(event.currentTarget.checked)}
+        />
+        {showP && (
+          <Callout tone="caution" role="note" title="Baseline p-values are chance by construction">
+            <p data-testid="consort-caution">{table.data?.pValues?.caution ?? balanceCautions.consortPValues}</p>
+          </Callout>
+        )}
+        {table.isPending ? (
+          <LoadingState label="Loading the baseline table…" />
+        ) : table.isError ? (
+          <ErrorState error={table.error} onRetry={() => void table.refetch()} />
+        ) : (
+          <>
+            <Table aria-labelledby={captionId} data-testid="baseline-table">
+              <caption id={captionId} className="sr-only">
+                Baseline characteristics by arm and overall
+              </caption>
+              <THead>
+                <TR>
+                  <TH>Characteristic</TH>
+                  {table.data.columns.map((c) => (
+                    <TH key={c.column} className="text-right">
+                      {c.label}
+                      <span className="figure block font-normal tracking-normal normal-case">n = {c.n}</span>
+                    </TH>
+                  ))}
+                </TR>
+              </THead>
+              <TBody>
+                {groupRows(table.data.rows).map((group) => (
+                  <Fragment key={group.key}>
+                    <TR className="bg-paper/50">
+                      <th
+                        scope="rowgroup"
+                        colSpan={table.data.columns.length + 1}
+                        className="px-4 pt-3 pb-1.5 text-left font-semibold text-ink"
+                      >
+                        {group.label}
+                      </th>
+                    </TR>
+                    {group.rows.map((row, index) => (
+                      <TR key={`${row.statistic}-${row.level ?? index}`}>
+                        <th scope="row" className="py-2 pr-4 pl-8 text-left font-normal text-graphite">
+                          {row.statistic === 'level' ? row.level : statisticLabel[row.statistic]}
+                        </th>
+                        {table.data.columns.map((c) => {
+                          const cell = row.cells.find((x) => x.column === c.column);
+                          return (
+                            <TD key={c.column} className="figure py-2 text-right whitespace-nowrap">
+                              {cell?.text ?? '—'}
+                            </TD>
+                          );
+                        })}
+                      </TR>
+                    ))}
+                  </Fragment>
+                ))}
+              </TBody>
+            </Table>
+            {showP && table.data.pValues && (
+              <div className="flex flex-col gap-2">
+                <h3 className="text-sm font-semibold text-ink">
+                  Labelled baseline p-values{' '}
+                  <span className="font-normal text-graphite">({table.data.pValues.method})</span>
+                </h3>
+                <Table data-testid="baseline-pvalues">
+                  <caption className="sr-only">
+                    Baseline p-values, shown on request; they are not a measure of imbalance.
+                  </caption>
+                  <THead>
+                    <TR>
+                      <TH>Characteristic</TH>
+                      <TH>Test</TH>
+                      <TH className="text-right">p (chance by construction)</TH>
+                    </TR>
+                  </THead>
+                  <TBody>
+                    {table.data.pValues.values.map((v) => (
+                      <TR key={`${v.covariateKey}-${v.armId}`}>
+                        <TD>{table.data.rows.find((r) => r.covariateKey === v.covariateKey)?.label ?? v.covariateKey}</TD>
+                        <TD className="text-graphite">{v.test}</TD>
+                        <TD className="figure text-right">{formatP(v.pValue)}</TD>
+                      </TR>
+                    ))}
+                  </TBody>
+                </Table>
+              </div>
+            )}
+          </>
+        )}
+      </CardBody>
+    </Card>
+  );
+}
