@@ -22,10 +22,13 @@ function makeData(n: number) {
   for (let i = 0; i < n; i++) {
     const arm = rng() < 0.5 ? 'control' : 'treatment';
     group[i] = arm;
-    c1[i] = 50 + 10 * gauss();
-    c2[i] = 120 + 15 * gauss();
-    c3[i] = rng() < 0.4 ? 1 : 0;
-    outcome[i] = 10 + (arm === 'treatment' ? 1.5 : 0) + 0.6 * c1[i] + 0.1 * c2[i] + 2 * c3[i] + 3 * gauss();
+    const a = 50 + 10 * gauss();
+    const b = 120 + 15 * gauss();
+    const c = rng() < 0.4 ? 1 : 0;
+    c1[i] = a;
+    c2[i] = b;
+    c3[i] = c;
+    outcome[i] = 10 + (arm === 'treatment' ? 1.5 : 0) + 0.6 * a + 0.1 * b + 2 * c + 3 * gauss();
   }
   return { outcome, group, covariates: { baseline: c1, weight: c2, smoker: c3 } };
 }
