@@ -1,8 +1,13 @@
 import type { Router } from 'express';
 import type { AppContext } from './app-context.js';
+import { designRoutes } from './modules/design/design.routes.js';
+import { participantsRoutes } from './modules/participants/participants.routes.js';
 
 /**
  * Route modules of the later capabilities (design and enrollment, balance, analysis), each
  * added here by its own line. The foundation's routes are mounted in app.ts.
  */
-export const routeModules: ((ctx: AppContext) => Router)[] = [];
+export const routeModules: ((ctx: AppContext) => Router)[] = [
+  designRoutes,
+  participantsRoutes,
+];

@@ -1,0 +1,302 @@
+import {
+  buildBaselineSchema,
+  evaluateEligibility,
+  utcToday,
+  type BaselineEntry,
+} from '@counterpoise/contracts/participants';
+import type { EntityManager } from 'typeorm';
+import type { AppContext } from '../../app-context.js';
+import { AppError } from '../../http/app-error.js';
+import { appendAudit, type AuditActor, type AuditEntry } from '../audit/audit.service.js';
+import type { StudyDesign } from '../design/study-design.js';
+import { allocate, insertAllocations, levelOf, randomCode, type AllocationResult } from './allocation.service.js';
+
+export type Issue = { path: string[]; message: string };
+
+/** One enrollment as submitted (API body, CSV row or demo seed), before validation. */
+export type EnrollmentInput = {
+  siteId: string;
+  consent: { date: string; version: string };
+  baseline: Record<string, unknown>;
+  /** Defaults to today (UTC); imports may carry an earlier date. */
+  enrollmentDate?: string;
+  screeningAnswers?: Record<string, unknown>;
+  exposureArmId?: string | null;
+  /** A participant already created by an eligible screening. */
+  existingParticipantId?: string;
+  screeningId?: string;
+  importKey?: string | null;
+};
+
+export type ValidEnrollment = Omit<EnrollmentInput, 'baseline' | 'enrollmentDate'> & {
+  enrollmentDate: string;
+  baseline: Record<string, BaselineEntry>;
+  siteCode: string;
+};
+
+type SchemaCache = { key: string; schema: ReturnType<typeof buildBaselineSchema> };
+const schemaCache = new Map<string, SchemaCache>();
+
+/** The generated baseline schema for one design version and enrollment date (cached: imports validate thousands of rows). */
+function baselineSchema(design: StudyDesign, enrollmentDate: string, today: string) {
+  const key = `${design.designVersion}|${enrollmentDate}|${today}`;
+  const hit = schemaCache.get(design.id);
+  if (hit?.key === key) return hit.schema;
+  const schema = buildBaselineSchema(design.covariates, { enrollmentDate, today });
+  schemaCache.set(design.id, { key, schema });
+  return schema;
+}
+
+/**
+ * Validates one enrollment against the study design: site, consent, dates, every baseline
+ * value (the same generated schema the web form runs), the exposure group for cohorts, and
+ * the eligibility criteria. Returns plain-language issues instead of throwing, so an import
+ * can report every row.
+ */
+export function validateEnrollment(
+  design: StudyDesign,
+  input: EnrollmentInput,
+  today = utcToday(),
+): { ok: true; value: ValidEnrollment } | { ok: false; issues: Issue[] } {
+  const issues: Issue[] = [];
+  const site = design.sites.find((s) => s.id === input.siteId);
+  if (!site) issues.push({ path: ['siteId'], message: 'This site does not belong to the study' });
+  else if (site.status !== 'active') issues.push({ path: ['siteId'], message: `Site ${site.code} is ${site.status} and not enrolling` });
+  const enrollmentDate = input.enrollmentDate ?? today;
+  if (enrollmentDate > today) issues.push({ path: ['enrollmentDate'], message: 'The enrollment date is in the future' });
+  if (input.consent.date > today) issues.push({ path: ['consent', 'date'], message: 'The consent date is in the future' });
+  else if (input.consent.date > enrollmentDate) {
+    issues.push({ path: ['consent', 'date'], message: 'Consent must be given on or before the enrollment date' });
+  }
+  if (design.kind === 'observational_cohort') {
+    if (!input.exposureArmId) issues.push({ path: ['exposureArmId'], message: 'Record the exposure group' });
+    else if (!design.arms.some((a) => a.id === input.exposureArmId)) {
+      issues.push({ path: ['exposureArmId'], message: 'Not an exposure group of this study' });
+    }
+  } else if (input.exposureArmId) {
+    issues.push({ path: ['exposureArmId'], message: 'Arms are allocated in a randomized trial, not chosen' });
+  }
+  if (!design.allocation) issues.push({ path: [], message: 'The study design is not complete yet' });
+  const parsed = baselineSchema(design, enrollmentDate, today).safeParse(input.baseline);
+  if (!parsed.success) {
+    for (const i of parsed.error.issues) issues.push({ path: ['baseline', ...i.path.map(String)], message: i.message });
+  }
+  const baseline: Record<string, BaselineEntry> = {};
+  if (parsed.success) {
+    for (const [k, v] of Object.entries(parsed.data as Record<string, BaselineEntry | null | undefined>)) if (v) baseline[k] = v;
+    const answers: Record<string, unknown> = { ...(input.screeningAnswers ?? {}) };
+    for (const [k, v] of Object.entries(baseline)) answers[k] = v.value;
+    const { failed } = evaluateEligibility(design.eligibility, answers);
+    for (const f of failed) issues.push({ path: ['eligibility', f.id], message: `${f.label}: ${f.reason}` });
+  }
+  if (issues.length) return { ok: false, issues };
+  return { ok: true, value: { ...input, enrollmentDate, baseline, siteCode: site!.code } };
+}
+
+export type EnrolledParticipant = {
+  id: string;
+  code: string;
+  siteId: string;
+  siteCode: string;
+  enrolledAt: string;
+  allocation: AllocationResult | null;
+  exposureArmId: string | null;
+};
+
+type AuditMode = 'per_participant' | 'batch';
+
+/** Inserts new participant rows with random codes (never derived from personal data), retrying the rare clash. */
+async function insertParticipants(tx: EntityManager, design: StudyDesign, items: ValidEnrollment[]): Promise<string[]> {
+  const ids = new Array<string>(items.length);
+  const codes = new Array<string>(items.length);
+  let pending = items.map((_, i) => i);
+  for (let attempt = 0; pending.length && attempt < 5; attempt++) {
+    for (const i of pending) codes[i] = `${design.code}-${items[i]!.siteCode}-${randomCode(6)}`;
+    for (let c = 0; c < pending.length; c += 5000) {
+      const chunk = pending.slice(c, c + 5000);
+      const rows: { id: string; code: string }[] = await tx.query(
+        `INSERT INTO participant (study_id, site_id, code, status, screened_at, enrolled_at, consent_date, consent_version, exposure_arm_id, import_key)
+         SELECT $1, s, c, 'enrolled', e, e, cd, cv, x, k
+           FROM unnest($2::uuid[], $3::text[], $4::timestamptz[], $5::date[], $6::text[], $7::uuid[], $8::text[]) AS t(s, c, e, cd, cv, x, k)
+         ON CONFLICT (study_id, code) DO NOTHING RETURNING id, code`,
+        [
+          design.id,
+          chunk.map((i) => items[i]!.siteId),
+          chunk.map((i) => codes[i]),
+          chunk.map((i) => enrolledAt(items[i]!)),
+          chunk.map((i) => items[i]!.consent.date),
+          chunk.map((i) => items[i]!.consent.version),
+          chunk.map((i) => items[i]!.exposureArmId ?? null),
+          chunk.map((i) => items[i]!.importKey ?? null),
+        ],
+      );
+      const byCode = new Map(rows.map((r) => [r.code, r.id]));
+      for (const i of chunk) {
+        const id = byCode.get(codes[i]!);
+        if (id) ids[i] = id;
+      }
+    }
+    pending = pending.filter((i) => !ids[i]);
+  }
+  if (pending.length) throw new AppError('internal', 'Could not generate unique participant codes');
+  return ids.map((id, i) => `${id}|${codes[i]}`);
+}
+
+// Live enrollments are stamped now; imported ones with their enrollment date at noon UTC.
+function enrolledAt(item: ValidEnrollment): string {
+  return item.enrollmentDate === utcToday() ? new Date().toISOString() : `${item.enrollmentDate}T12:00:00Z`;
+}
+
+async function insertBaseline(tx: EntityManager, design: StudyDesign, participantIds: string[], items: ValidEnrollment[]) {
+  const byKey = new Map(design.covariates.map((c) => [c.key, c]));
+  const p: string[] = [];
+  const c: string[] = [];
+  const num: (number | null)[] = [];
+  const txt: (string | null)[] = [];
+  const on: string[] = [];
+  items.forEach((item, i) => {
+    for (const [key, entry] of Object.entries(item.baseline)) {
+      const def = byKey.get(key)!;
+      p.push(participantIds[i]!);
+      c.push(def.id);
+      if (def.kind === 'categorical') {
+        num.push(null);
+        txt.push(String(entry.value));
+      } else {
+        num.push(def.kind === 'binary' ? (entry.value ? 1 : 0) : Number(entry.value));
+        txt.push(null);
+      }
+      on.push(entry.measuredOn);
+    }
+  });
+  for (let s = 0; s < p.length; s += 50_000) {
+    await tx.query(
+      `INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on)
+       SELECT * FROM unnest($1::uuid[], $2::uuid[], $3::float8[], $4::text[], $5::date[])`,
+      [p.slice(s, s + 50_000), c.slice(s, s + 50_000), num.slice(s, s + 50_000), txt.slice(s, s + 50_000), on.slice(s, s + 50_000)],
+    );
+  }
+}
+
+/** Factor levels of a participant for allocation (stratification and minimization factors). */
+function factorLevels(design: StudyDesign, item: ValidEnrollment): Record<string, string> {
+  const levels: Record<string, string> = {};
+  for (const c of design.covariates) {
+    const entry = item.baseline[c.key];
+    if (entry && c.kind !== 'continuous') levels[c.key] = levelOf(c.kind, entry.value);
+  }
+  return levels;
+}
+
+/**
+ * Enrolls validated participants inside the caller's transaction: participant rows, baseline
+ * values, the allocation (randomized trials) or the recorded exposure (cohorts), a balance
+ * recompute job, and the audit entries, last. Items are allocated in the order given.
+ */
+export async function enrollValidated(
+  tx: EntityManager,
+  ctx: Pick<AppContext, 'jobs'>,
+  design: StudyDesign,
+  actor: AuditActor,
+  items: ValidEnrollment[],
+  opts: { auditMode?: AuditMode; reason?: string; extraAudit?: AuditEntry[] } = {},
+): Promise<EnrolledParticipant[]> {
+  if (items.length === 0) return [];
+  const fresh = items.map((it, i) => ({ it, i })).filter((x) => !x.it.existingParticipantId);
+  const idCode = new Array<{ id: string; code: string }>(items.length);
+  if (fresh.length) {
+    const made = await insertParticipants(tx, design, fresh.map((x) => x.it));
+    made.forEach((v, j) => {
+      const [id, code] = v.split('|') as [string, string];
+      idCode[fresh[j]!.i] = { id, code };
+    });
+  }
+  for (const [i, it] of items.entries()) {
+    if (!it.existingParticipantId) continue;
+    const rows: { id: string; code: string }[] = await tx.query(
+      `UPDATE participant SET status = 'enrolled', enrolled_at = $3, consent_date = $4, consent_version = $5, exposure_arm_id = $6,
+              updated_at = now()
+        WHERE id = $1 AND study_id = $2 AND status = 'screened' RETURNING id, code`,
+      [it.existingParticipantId, design.id, enrolledAt(it), it.consent.date, it.consent.version, it.exposureArmId ?? null],
+    );
+    if (!rows[0]) throw new AppError('conflict', 'This screened participant is already enrolled or not eligible');
+    idCode[i] = rows[0];
+  }
+  const ids = idCode.map((x) => x.id);
+  await insertBaseline(tx, design, ids, items);
+
+  let allocations: AllocationResult[] = [];
+  if (design.kind === 'randomized_trial') {
+    allocations = await allocate(
+      tx,
+      design,
+      items.map((it, i) => ({ participantId: ids[i]!, siteCode: it.siteCode, levels: factorLevels(design, it) })),
+    );
+    await insertAllocations(tx, design, allocations);
+  }
+  await ctx.jobs.send(tx, 'balance.recompute', { studyId: design.id, reason: opts.auditMode === 'batch' ? 'participants imported' : 'participant enrolled' }, { singletonKey: design.id });
+
+  const armCode = new Map(design.arms.map((a) => [a.id, a.code]));
+  const entries: AuditEntry[] = [];
+  const revealing: { code: string; arm: string; kitCode?: string; stratumKey?: string; position?: number }[] = [];
+  items.forEach((it, i) => {
+    const { code, id } = idCode[i]!;
+    const alloc = allocations[i];
+    entries.push({
+      action: 'participant.enrolled',
+      entityType: 'participant',
+      entityId: id,
+      studyId: design.id,
+      siteId: it.siteId,
+      after: {
+        code,
+        site: it.siteCode,
+        enrollmentDate: it.enrollmentDate,
+        consent: it.consent,
+        baseline: it.baseline,
+        ...(alloc ? { kitCode: alloc.kitCode } : {}),
+        ...(it.importKey ? { importKey: it.importKey } : {}),
+        designVersion: design.designVersion,
+      },
+      reason: opts.reason ?? null,
+    });
+    const arm = alloc ? alloc.armCode : it.exposureArmId ? armCode.get(it.exposureArmId)! : null;
+    if (!arm) return;
+    const reveal = alloc
+      ? { code, arm, kitCode: alloc.kitCode, stratumKey: alloc.stratumKey, position: alloc.position, algorithmVersion: alloc.algorithmVersion }
+      : { code, arm };
+    if (opts.auditMode === 'batch') revealing.push(reveal);
+    else {
+      entries.push({
+        action: alloc ? 'allocation.assigned' : 'exposure.recorded',
+        entityType: 'participant',
+        entityId: id,
+        studyId: design.id,
+        siteId: it.siteId,
+        after: reveal,
+        revealsAllocation: true,
+      });
+    }
+  });
+  if (revealing.length) {
+    entries.push({
+      action: design.kind === 'randomized_trial' ? 'allocation.assigned_batch' : 'exposure.recorded_batch',
+      entityType: 'study',
+      entityId: design.id,
+      studyId: design.id,
+      after: { count: revealing.length, allocations: revealing },
+      revealsAllocation: true,
+    });
+  }
+  await appendAudit(tx, actor, [...entries, ...(opts.extraAudit ?? [])]);
+
+  return items.map((it, i) => ({
+    id: idCode[i]!.id,
+    code: idCode[i]!.code,
+    siteId: it.siteId,
+    siteCode: it.siteCode,
+    enrolledAt: enrolledAt(it),
+    allocation: allocations[i] ?? null,
+    exposureArmId: it.exposureArmId ?? null,
+  }));
+}
