@@ -12,6 +12,7 @@ import { RouteErrorBoundary } from './routes/route-error.js';
 import { SignInRoute } from './routes/sign-in.js';
 import { StudiesRoute } from './routes/studies.js';
 import { StudyAuditRoute } from './routes/study/study-audit.js';
+import { StudyDesignRoute } from './routes/study/study-design.js';
 import { StudyLayout } from './routes/study/study-layout.js';
 import { StudyOverviewRoute } from './routes/study/study-overview.js';
 import { StudySectionPlaceholder } from './routes/study/study-section-placeholder.js';
@@ -43,7 +44,7 @@ export const router = createBrowserRouter([
               { path: 'balance', element: <StudySectionPlaceholder tab="balance" /> },
               { path: 'alerts', element: <StudySectionPlaceholder tab="alerts" /> },
               { path: 'analysis', element: <StudySectionPlaceholder tab="analysis" /> },
-              { path: 'design', element: <StudySectionPlaceholder tab="design" /> },
+              { path: 'design', element: <StudyDesignRoute /> },
               { path: 'audit', element: <StudyAuditRoute /> },
               { path: '*', element: <NotFoundRoute /> },
             ],
