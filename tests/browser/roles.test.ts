@@ -140,6 +140,11 @@ describe('role-aware navigation', () => {
         await page.goto(`${baseUrl}/admin/users`);
         if (c.mayManageUsers) {
           await page.getByRole('heading', { name: 'Accounts' }).waitFor();
+          // The heading renders at once; the account rows arrive with the users query.
+          await page
+            .getByRole('button', { name: /^Edit access for / })
+            .first()
+            .waitFor();
           expect(await page.getByRole('button', { name: /^Edit access for / }).count()).toBeGreaterThan(0);
         } else {
           await page.getByText('Not available for your role').waitFor();
