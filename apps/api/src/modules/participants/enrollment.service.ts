@@ -213,7 +213,8 @@ export async function enrollValidated(
   }
   for (const [i, it] of items.entries()) {
     if (!it.existingParticipantId) continue;
-    const rows: { id: string; code: string }[] = await tx.query(
+    // TypeORM returns [rows, count] for UPDATE ... RETURNING.
+    const [rows]: [{ id: string; code: string }[], number] = await tx.query(
       `UPDATE participant SET status = 'enrolled', enrolled_at = $3, consent_date = $4, consent_version = $5, exposure_arm_id = $6,
               updated_at = now()
         WHERE id = $1 AND study_id = $2 AND status = 'screened' RETURNING id, code`,
