@@ -108,22 +108,49 @@ export function tQuantile(p: number, df: number): number {
   return jStat.studentt.inv(p, df);
 }
 
-/** Phi(z), the standard normal CDF (erfc form, accurate in both tails). */
+const INV_SQRT_2PI = 0.3989422804014327;
+
+/**
+ * Upper normal tail Q(z). For z >= 3 jstat's erfc loses relative precision (it returns 0
+ * beyond z ~ 8.3), so there Q(z) = phi(z) R(z) with Mills' ratio from its continued fraction
+ * R(z) = 1/(z + 1/(z + 2/(z + 3/(z + ...)))) (Abramowitz & Stegun 26.2.14), evaluated
+ * backwards from a fixed depth; below 3, jstat's erfc (about 1e-12 relative there).
+ */
+function upperTail(z: number): number {
+  if (z < 3) return 0.5 * jStat.erfc(z / Math.SQRT2);
+  if (z > 38.5) return 0; // below the smallest double
+  let r = z;
+  for (let k = 300; k >= 1; k--) r = z + k / r;
+  return (INV_SQRT_2PI * Math.exp(-0.5 * z * z)) / r;
+}
+
+/** Phi(z), the standard normal CDF, accurate in relative terms in both tails. */
 export function normalCdf(z: number): number {
   checkStat('normalCdf', 'z', z);
-  return 0.5 * jStat.erfc(-z / Math.SQRT2);
+  return z < 0 ? upperTail(-z) : 1 - upperTail(z);
 }
 
 /** 1 - Phi(z), the standard normal upper tail, without cancellation. */
 export function normalCdfUpper(z: number): number {
   checkStat('normalCdfUpper', 'z', z);
-  return 0.5 * jStat.erfc(z / Math.SQRT2);
+  return z < 0 ? 1 - upperTail(-z) : upperTail(z);
 }
 
-/** Phi^{-1}(p), the standard normal quantile. */
+/**
+ * Phi^{-1}(p), the standard normal quantile: jstat's value polished by two Newton steps on
+ * the accurate tail above (jstat alone is ~1e-9 relative at p = 1e-10).
+ */
 export function normalQuantile(p: number): number {
   checkProbability('normalQuantile', p);
-  return jStat.normal.inv(p, 0, 1);
+  if (p === 0.5) return 0;
+  const lower = p < 0.5;
+  const q = lower ? p : 1 - p; // tail probability; symmetric, so solve on the lower side
+  let x = jStat.normal.inv(q, 0, 1);
+  for (let i = 0; i < 2; i++) {
+    const density = INV_SQRT_2PI * Math.exp(-0.5 * x * x);
+    x -= (upperTail(-x) - q) / density;
+  }
+  return lower ? x : -x;
 }
 
 /** P(X > x) for the chi-square distribution with k degrees of freedom. */
