@@ -11,7 +11,9 @@ import { ResetPasswordRoute } from './routes/reset-password.js';
 import { RouteErrorBoundary } from './routes/route-error.js';
 import { SignInRoute } from './routes/sign-in.js';
 import { StudiesRoute } from './routes/studies.js';
+import { StudyAlertsRoute } from './routes/study/study-alerts.js';
 import { StudyAuditRoute } from './routes/study/study-audit.js';
+import { StudyBalanceRoute } from './routes/study/study-balance.js';
 import { StudyDesignRoute } from './routes/study/study-design.js';
 import { StudyLayout } from './routes/study/study-layout.js';
 import { StudyOverviewRoute } from './routes/study/study-overview.js';
@@ -41,8 +43,8 @@ export const router = createBrowserRouter([
             children: [
               { index: true, element: <StudyOverviewRoute /> },
               { path: 'participants', element: <StudySectionPlaceholder tab="participants" /> },
-              { path: 'balance', element: <StudySectionPlaceholder tab="balance" /> },
-              { path: 'alerts', element: <StudySectionPlaceholder tab="alerts" /> },
+              { path: 'balance', element: <StudyBalanceRoute /> },
+              { path: 'alerts', element: <StudyAlertsRoute /> },
               { path: 'analysis', element: <StudySectionPlaceholder tab="analysis" /> },
               { path: 'design', element: <StudyDesignRoute /> },
               { path: 'audit', element: <StudyAuditRoute /> },

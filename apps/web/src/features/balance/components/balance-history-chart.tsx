@@ -31,10 +31,14 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
   const tableId = useId();
 
   const points = useMemo(
-    () => (series?.points ?? []).filter((p) => p.enrolledCount > 0).sort((a, b) => a.enrolledCount - b.enrolledCount),
+    () =>
+      (series?.points ?? [])
+        .filter((p) => p.enrolledCount > 0)
+        .sort((a, b) => a.enrolledCount - b.enrolledCount),
     [series],
   );
-  if (!series) return <p className="text-sm text-graphite">No history yet: it builds up as participants enroll.</p>;
+  if (!series)
+    return <p className="text-sm text-graphite">No history yet: it builds up as participants enroll.</p>;
 
   const multi = history.arms.length > 2;
   const label = (s: Series) =>
@@ -48,7 +52,11 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
   const minN = Math.min(maxN, ...points.map((p) => p.enrolledCount));
   const latestBand = [...points].reverse().find((p) => p.halfWidth !== null)?.halfWidth ?? 0;
   // Early bands are very wide; size the axis on the latest band so the recent part stays readable.
-  const extent = Math.max(history.threshold * 2, ...points.map((p) => Math.abs(p.smd ?? 0)), latestBand * 1.6);
+  const extent = Math.max(
+    history.threshold * 2,
+    ...points.map((p) => Math.abs(p.smd ?? 0)),
+    latestBand * 1.6,
+  );
   const yMax = Math.min(1.5, extent * 1.15);
   const x = scaleLinear<number>({ domain: [minN, maxN], range: [0, innerWidth] });
   const y = scaleLinear<number>({ domain: [-yMax, yMax], range: [innerHeight, 0], nice: true, clamp: true });
@@ -78,7 +86,13 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
         ))}
       </SelectField>
       <div ref={ref} className="w-full">
-        <svg width={width} height={HEIGHT} role="img" aria-label={summary} data-testid="balance-history-chart">
+        <svg
+          width={width}
+          height={HEIGHT}
+          role="img"
+          aria-label={summary}
+          data-testid="balance-history-chart"
+        >
           <Group left={MARGIN.left} top={MARGIN.top}>
             <GridRows scale={y} width={innerWidth} stroke={chartColors.rule} numTicks={6} />
             <Area<Point & { halfWidth: number }>
@@ -115,7 +129,13 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
                 strokeDasharray="5 4"
               />
             ))}
-            <text x={innerWidth - 4} y={y(history.threshold) - 5} fontSize={11} fill={chartColors.graphite} textAnchor="end">
+            <text
+              x={innerWidth - 4}
+              y={y(history.threshold) - 5}
+              fontSize={11}
+              fill={chartColors.graphite}
+              textAnchor="end"
+            >
               ±{history.threshold} (convention)
             </text>
             <LinePath<Point & { smd: number }>
@@ -158,26 +178,46 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
           SMD at each snapshot
         </li>
         <li className="flex items-center gap-2">
-          <span aria-hidden="true" className="inline-block h-3.5 w-6" style={{ background: chartColors.band }} />
+          <span
+            aria-hidden="true"
+            className="inline-block h-3.5 w-6"
+            style={{ background: chartColors.band }}
+          />
           95% chance band at that point's group sizes
         </li>
         <li className="flex items-center gap-2">
           <svg width="24" height="10" aria-hidden="true">
-            <line x1="0" y1="5" x2="24" y2="5" stroke={chartColors.threshold} strokeWidth="1.5" strokeDasharray="5 4" />
+            <line
+              x1="0"
+              y1="5"
+              x2="24"
+              y2="5"
+              stroke={chartColors.threshold}
+              strokeWidth="1.5"
+              strokeDasharray="5 4"
+            />
           </svg>
           |SMD| = {history.threshold}, a convention
         </li>
       </ul>
       <details className="text-sm">
-        <summary className="cursor-pointer font-semibold text-spruce-deep">Show the points as a table</summary>
+        <summary className="cursor-pointer font-semibold text-spruce-deep">
+          Show the points as a table
+        </summary>
         <div className="mt-2 max-h-72 overflow-auto">
           <table id={tableId} className="w-full text-left text-sm">
             <caption className="sr-only">{label(series)}: SMD and chance band by number enrolled</caption>
             <thead>
               <tr className="text-xs text-graphite uppercase">
-                <th scope="col" className="px-2 py-1 text-right">Enrolled</th>
-                <th scope="col" className="px-2 py-1 text-right">SMD</th>
-                <th scope="col" className="px-2 py-1 text-right">Chance band</th>
+                <th scope="col" className="px-2 py-1 text-right">
+                  Enrolled
+                </th>
+                <th scope="col" className="px-2 py-1 text-right">
+                  SMD
+                </th>
+                <th scope="col" className="px-2 py-1 text-right">
+                  Chance band
+                </th>
               </tr>
             </thead>
             <tbody className="figure">

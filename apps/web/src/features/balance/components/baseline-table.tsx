@@ -65,7 +65,9 @@ export function BaselineTableCard({ studyId }: { studyId: string }) {
         />
         {showP && (
           <Callout tone="caution" role="note" title="Baseline p-values are chance by construction">
-            <p data-testid="consort-caution">{table.data?.pValues?.caution ?? balanceCautions.consortPValues}</p>
+            <p data-testid="consort-caution">
+              {table.data?.pValues?.caution ?? balanceCautions.consortPValues}
+            </p>
           </Callout>
         )}
         {table.isPending ? (
@@ -140,7 +142,10 @@ export function BaselineTableCard({ studyId }: { studyId: string }) {
                   <TBody>
                     {table.data.pValues.values.map((v) => (
                       <TR key={`${v.covariateKey}-${v.armId}`}>
-                        <TD>{table.data.rows.find((r) => r.covariateKey === v.covariateKey)?.label ?? v.covariateKey}</TD>
+                        <TD>
+                          {table.data.rows.find((r) => r.covariateKey === v.covariateKey)?.label ??
+                            v.covariateKey}
+                        </TD>
                         <TD className="text-graphite">{v.test}</TD>
                         <TD className="figure text-right">{formatP(v.pValue)}</TD>
                       </TR>

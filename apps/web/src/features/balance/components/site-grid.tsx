@@ -22,7 +22,8 @@ export function SiteGrid({ view }: { view: BalanceArmsView }) {
     <div className="flex flex-col gap-3">
       <Callout tone="caution" role="note">
         <p>
-          {balanceCautions.smallSites} Here the minimum is <span className="figure">{minPerArm}</span> per arm.
+          {balanceCautions.smallSites} Here the minimum is <span className="figure">{minPerArm}</span> per
+          arm.
         </p>
       </Callout>
       <div className="overflow-x-auto rounded-card border border-rule bg-vellum shadow-card">
@@ -32,10 +33,16 @@ export function SiteGrid({ view }: { view: BalanceArmsView }) {
           </caption>
           <thead className="border-b border-rule bg-paper/70">
             <tr>
-              <th scope="col" className="px-3 py-2.5 text-left text-xs font-semibold tracking-wide text-graphite uppercase">
+              <th
+                scope="col"
+                className="px-3 py-2.5 text-left text-xs font-semibold tracking-wide text-graphite uppercase"
+              >
                 Site
               </th>
-              <th scope="col" className="px-3 py-2.5 text-right text-xs font-semibold tracking-wide text-graphite uppercase">
+              <th
+                scope="col"
+                className="px-3 py-2.5 text-right text-xs font-semibold tracking-wide text-graphite uppercase"
+              >
                 n by arm
               </th>
               {view.covariates.map((c) => (
@@ -60,7 +67,11 @@ export function SiteGrid({ view }: { view: BalanceArmsView }) {
         <li className="font-semibold text-ink">|SMD|:</li>
         {smdBins.map((b) => (
           <li key={b.label} className="flex items-center gap-1.5">
-            <span aria-hidden="true" className="inline-block size-3.5 rounded-sm border border-rule" style={{ background: b.bg }} />
+            <span
+              aria-hidden="true"
+              className="inline-block size-3.5 rounded-sm border border-rule"
+              style={{ background: b.bg }}
+            />
             {b.label}
           </li>
         ))}
@@ -71,7 +82,10 @@ export function SiteGrid({ view }: { view: BalanceArmsView }) {
           beyond the site's chance band
         </li>
         <li className="flex items-center gap-1.5">
-          <span aria-hidden="true" className={`${suppressed} inline-block size-3.5 rounded-sm border border-rule`} />
+          <span
+            aria-hidden="true"
+            className={`${suppressed} inline-block size-3.5 rounded-sm border border-rule`}
+          />
           too small to judge (value suppressed)
         </li>
       </ul>
@@ -113,7 +127,11 @@ function SiteGridRow({ site, view, multi }: { site: SiteRow; view: BalanceArmsVi
             style={bin ? { background: bin.bg, color: bin.fg } : undefined}
           >
             {(cell?.comparisons ?? []).map((cmp) => (
-              <span key={cmp.armId} className="figure block whitespace-nowrap" title={`chance band ${formatBand(cmp.halfWidth)}`}>
+              <span
+                key={cmp.armId}
+                className="figure block whitespace-nowrap"
+                title={`chance band ${formatBand(cmp.halfWidth)}`}
+              >
                 {multi && <span className="text-xs">{armLabel(view.arms, cmp.armId)} </span>}
                 {cmp.flags.beyondChance && (
                   <>
@@ -123,7 +141,9 @@ function SiteGridRow({ site, view, multi }: { site: SiteRow; view: BalanceArmsVi
                     <span className="sr-only">beyond the chance band: </span>
                   </>
                 )}
-                <span className={cmp.flags.beyondChance ? 'font-bold' : undefined}>{formatSmd(cmp.smd, 2)}</span>
+                <span className={cmp.flags.beyondChance ? 'font-bold' : undefined}>
+                  {formatSmd(cmp.smd, 2)}
+                </span>
                 <span className="sr-only"> (chance band {formatBand(cmp.halfWidth)})</span>
               </span>
             ))}

@@ -50,9 +50,15 @@ export function SmdDotChart({
 
   const extent = Math.max(
     threshold * 2,
-    ...rows.flatMap((r) => [r.smd, r.before, r.after, r.halfWidth].map((v) => (v === null ? 0 : Math.abs(v)))),
+    ...rows.flatMap((r) =>
+      [r.smd, r.before, r.after, r.halfWidth].map((v) => (v === null ? 0 : Math.abs(v))),
+    ),
   );
-  const x = scaleLinear<number>({ domain: [-extent * 1.12, extent * 1.12], range: [0, innerWidth], nice: true });
+  const x = scaleLinear<number>({
+    domain: [-extent * 1.12, extent * 1.12],
+    range: [0, innerWidth],
+    nice: true,
+  });
   const y = scaleBand<string>({ domain: rows.map((r) => r.id), range: [0, innerHeight], padding: 0 });
   const beyond = rows.filter((r) => r.flags.beyondChance).length;
   const over = rows.filter((r) => r.smd !== null && Math.abs(r.smd) >= threshold).length;
@@ -83,7 +89,9 @@ export function SmdDotChart({
             const top = y(row.id) ?? 0;
             return (
               <g key={`bg-${row.id}`}>
-                {i % 2 === 1 && <rect x={-MARGIN.left} y={top} width={width} height={ROW} fill="#f7f3ec" opacity={0.6} />}
+                {i % 2 === 1 && (
+                  <rect x={-MARGIN.left} y={top} width={width} height={ROW} fill="#f7f3ec" opacity={0.6} />
+                )}
                 {row.halfWidth !== null && (
                   <rect
                     x={x(-row.halfWidth)}
@@ -97,7 +105,12 @@ export function SmdDotChart({
             );
           })}
           <GridColumns scale={x} height={innerHeight} stroke={chartColors.rule} numTicks={8} />
-          <Line from={{ x: x(0), y: 0 }} to={{ x: x(0), y: innerHeight }} stroke={chartColors.ink} strokeWidth={1} />
+          <Line
+            from={{ x: x(0), y: 0 }}
+            to={{ x: x(0), y: innerHeight }}
+            stroke={chartColors.ink}
+            strokeWidth={1}
+          />
           {[-threshold, threshold].map((t) => (
             <Line
               key={t}
@@ -135,7 +148,13 @@ export function SmdDotChart({
                 onMouseLeave={() => tooltip.hideTooltip()}
                 className="outline-none"
               >
-                <rect x={-MARGIN.left} y={cy - ROW / 2} width={MARGIN.left + innerWidth} height={ROW} fill="transparent" />
+                <rect
+                  x={-MARGIN.left}
+                  y={cy - ROW / 2}
+                  width={MARGIN.left + innerWidth}
+                  height={ROW}
+                  fill="transparent"
+                />
                 <text
                   x={-12}
                   y={cy}
@@ -167,11 +186,19 @@ export function SmdDotChart({
                       stroke={chartColors.graphite}
                       strokeWidth={1.25}
                     />
-                    <circle cx={x(row.before)} cy={cy} r={5.5} fill={chartColors.surface} stroke={chartColors.before} strokeWidth={2} />
+                    <circle
+                      cx={x(row.before)}
+                      cy={cy}
+                      r={5.5}
+                      fill={chartColors.surface}
+                      stroke={chartColors.before}
+                      strokeWidth={2}
+                    />
                     <circle cx={x(row.after)} cy={cy} r={5.5} fill={chartColors.after} />
                   </>
                 )}
-                {!weighted && row.smd !== null &&
+                {!weighted &&
+                  row.smd !== null &&
                   (row.flags.beyondChance ? (
                     <Diamond x={x(row.smd)} y={cy} r={8} fill={chartColors.flagged} />
                   ) : (
@@ -237,7 +264,14 @@ export function SmdLegend({ threshold, weighted }: { threshold: number; weighted
         <>
           <li className="flex items-center gap-2">
             <svg width="14" height="14" aria-hidden="true">
-              <circle cx="7" cy="7" r="5" fill={chartColors.surface} stroke={chartColors.before} strokeWidth="2" />
+              <circle
+                cx="7"
+                cy="7"
+                r="5"
+                fill={chartColors.surface}
+                stroke={chartColors.before}
+                strokeWidth="2"
+              />
             </svg>
             before weighting
           </li>
@@ -265,12 +299,24 @@ export function SmdLegend({ threshold, weighted }: { threshold: number; weighted
         </>
       )}
       <li className="flex items-center gap-2">
-        <span aria-hidden="true" className="inline-block h-3.5 w-6" style={{ background: chartColors.band }} />
+        <span
+          aria-hidden="true"
+          className="inline-block h-3.5 w-6"
+          style={{ background: chartColors.band }}
+        />
         95% chance band for the current group sizes
       </li>
       <li className="flex items-center gap-2">
         <svg width="24" height="10" aria-hidden="true">
-          <line x1="0" y1="5" x2="24" y2="5" stroke={chartColors.threshold} strokeWidth="1.5" strokeDasharray="5 4" />
+          <line
+            x1="0"
+            y1="5"
+            x2="24"
+            y2="5"
+            stroke={chartColors.threshold}
+            strokeWidth="1.5"
+            strokeDasharray="5 4"
+          />
         </svg>
         |SMD| = {threshold}, a convention (Normand et al. 2001; Austin 2009), not a test
       </li>

@@ -4,7 +4,15 @@ import { formatBand, formatNumber, formatSmd } from './format.js';
 import type { SmdRow } from './smd-rows.js';
 
 /** Every figure of the dot chart as a table: its text alternative and the place to read exact values. */
-export function SmdTable({ rows, threshold, weighted }: { rows: SmdRow[]; threshold: number; weighted: boolean }) {
+export function SmdTable({
+  rows,
+  threshold,
+  weighted,
+}: {
+  rows: SmdRow[];
+  threshold: number;
+  weighted: boolean;
+}) {
   return (
     <Table data-testid="smd-table">
       <caption className="sr-only">Standardized mean differences by covariate</caption>
@@ -26,7 +34,9 @@ export function SmdTable({ rows, threshold, weighted }: { rows: SmdRow[]; thresh
             <TD>
               {row.label}
               {row.isStratification && <span className="ml-1.5 text-xs text-graphite">(stratification)</span>}
-              {row.isAdjustment && <span className="ml-1.5 text-xs text-graphite">(pre-specified adjustment)</span>}
+              {row.isAdjustment && (
+                <span className="ml-1.5 text-xs text-graphite">(pre-specified adjustment)</span>
+              )}
             </TD>
             <TD className="text-graphite">{row.comparison}</TD>
             <TD className="figure text-right whitespace-nowrap">
@@ -43,9 +53,9 @@ export function SmdTable({ rows, threshold, weighted }: { rows: SmdRow[]; thresh
                   <Badge tone="ochre">over {threshold}, within chance</Badge>
                 )}
                 {row.flags.varianceRatioOutside && <Badge tone="ochre">variance ratio outside range</Badge>}
-                {!row.flags.beyondChance && !row.flags.smdOverThreshold && !row.flags.varianceRatioOutside && (
-                  <span className="text-graphite">within chance</span>
-                )}
+                {!row.flags.beyondChance &&
+                  !row.flags.smdOverThreshold &&
+                  !row.flags.varianceRatioOutside && <span className="text-graphite">within chance</span>}
                 {row.note && <span className="text-graphite">{row.note}</span>}
               </div>
             </TD>
