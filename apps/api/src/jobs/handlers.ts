@@ -2,6 +2,7 @@ import type PgBoss from 'pg-boss';
 import type { Logger } from 'pino';
 import type { AppContext } from '../app-context.js';
 import type { QueueName } from './queues.js';
+import { balanceRecomputeHandler } from '../modules/balance/balance-recompute.job.js';
 
 export type JobHandler = {
   queue: QueueName;
@@ -12,6 +13,7 @@ export type JobHandler = {
 
 /** Every job handler the worker runs, one line per queue, added by the module that owns it. */
 export const jobHandlers: JobHandler[] = [
+  balanceRecomputeHandler,
   {
     queue: 'mail.send',
     async handle(ctx, jobs) {

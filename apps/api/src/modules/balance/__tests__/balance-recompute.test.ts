@@ -1,0 +1,218 @@
+import {
+  categoricalSmd,
+  smdChanceBand,
+  standardizedMeanDifference,
+  summarize,
+  varianceRatio,
+} from '@counterpoise/stats';
+import type { BalanceArmsView } from '@counterpoise/contracts/balance';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestContext, type TestContext } from '../../../test/harness.js';
+import {
+  correct,
+  createBalanceStudy,
+  enqueue,
+  enroll,
+  normal,
+  readCounted,
+  rng,
+  runJob,
+  withdraw,
+  type BalanceStudy,
+  type Enrollee,
+  type StoredRow,
+} from './balance-fixtures.js';
+
+/*
+ * The snapshot must equal what the stats functions give when called directly on the rows read
+ * back from the database (the functions are themselves checked against numpy/scipy fixtures in
+ * packages/stats). Binary and categorical values are decoded here independently of the API.
+ */
+
+const COVS = [
+  { key: 'age', kind: 'continuous' as const },
+  { key: 'fev1', kind: 'continuous' as const },
+  { key: 'smoker', kind: 'binary' as const },
+  { key: 'region', kind: 'categorical' as const, levels: ['north', 'south', 'east'] },
+];
+
+function decode(kind: string, v: { n: number | null; t: string | null } | undefined): number | string | null {
+  if (!v) return null;
+  if (kind === 'continuous') return v.n;
+  if (kind === 'binary') {
+    if (v.n === 0 || v.n === 1) return v.n;
+    if (v.t === 'yes') return 1;
+    if (v.t === 'no') return 0;
+    return null;
+  }
+  return v.t ?? (v.n === null ? null : String(v.n));
+}
+
+function close(actual: number | null, expected: number, what: string, tol = 1e-9): void {
+  expect(actual, what).not.toBeNull();
+  const delta = Math.abs((actual as number) - expected);
+  expect(delta, `${what}: expected ${expected}, got ${actual}, delta ${delta}`).toBeLessThanOrEqual(tol * Math.max(1, Math.abs(expected)));
+}
+
+async function latest(t: TestContext, studyId: string): Promise<{ body: BalanceArmsView; kind: string; sites: Map<string, BalanceArmsView> }> {
+  const [s] = await t.ownerQuery<{ id: string; result: BalanceArmsView; kind: string }>(
+    `SELECT id, result, kind FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
+    [studyId],
+  );
+  const sites = await t.ownerQuery<{ site_id: string; result: BalanceArmsView }>(
+    `SELECT site_id, result FROM balance_snapshot_site WHERE snapshot_id = $1`,
+    [s!.id],
+  );
+  return { body: s!.result, kind: s!.kind, sites: new Map(sites.map((r) => [r.site_id, r.result])) };
+}
+
+/** Checks one scope's covariates against a direct computation on `rows`. */
+function checkScope(study: BalanceStudy, view: BalanceArmsView, rows: StoredRow[], withQuantiles: boolean, label: string): number {
+  let checked = 0;
+  const ref = study.armIds[0]!;
+  for (const cov of study.covariates) {
+    const got = view.covariates.find((c) => c.key === cov.key)!;
+    const valuesOf = (arm: string) =>
+      rows.filter((r) => r.armId === arm).map((r) => decode(cov.kind, r.values.get(cov.key))).filter((x) => x !== null);
+    for (const [i, armId] of study.armIds.entries()) {
+      const s = got.balance.byArm.find((b) => b.armId === armId)!.summary;
+      const vals = valuesOf(armId);
+      const people = rows.filter((r) => r.armId === armId).length;
+      expect(s.n, `${label} ${cov.key} n arm ${i}`).toBe(vals.length);
+      expect(s.missing, `${label} ${cov.key} missing arm ${i}`).toBe(people - vals.length);
+      if (cov.kind === 'continuous' && vals.length >= 2) {
+        const direct = summarize(vals as number[]);
+        close(s.mean, direct.mean, `${label} ${cov.key} mean arm ${i}`);
+        close(s.sd, direct.sd!, `${label} ${cov.key} sd arm ${i}`);
+        if (withQuantiles) {
+          close(s.median, direct.median, `${label} ${cov.key} median arm ${i}`);
+          close(s.q1, direct.q1, `${label} ${cov.key} q1 arm ${i}`);
+          close(s.q3, direct.q3, `${label} ${cov.key} q3 arm ${i}`);
+        }
+      }
+      if (cov.kind === 'categorical') {
+        for (const lv of s.levels!) expect(lv.n, `${label} ${cov.key}=${lv.level}`).toBe(vals.filter((v) => v === lv.level).length);
+      }
+    }
+    for (const cmp of got.balance.comparisons) {
+      const a = valuesOf(cmp.armId);
+      const r = valuesOf(ref);
+      expect(cmp.nArm).toBe(a.length);
+      expect(cmp.nReference).toBe(r.length);
+      if (a.length < 2 || r.length < 2) continue;
+      let expected: number;
+      if (cov.kind === 'categorical') expected = categoricalSmd(a as string[], r as string[]);
+      else expected = standardizedMeanDifference(a as number[], r as number[], { kind: cov.kind });
+      close(cmp.smd, expected, `${label} ${cov.key} SMD ${cmp.armId.slice(0, 4)}`);
+      if (cov.kind === 'continuous') {
+        close(cmp.varianceRatio, varianceRatio(a as number[], r as number[]), `${label} ${cov.key} VR`);
+      }
+      const band = smdChanceBand(a.length, r.length);
+      close(cmp.chanceBand!.halfWidth, band.halfWidth, `${label} ${cov.key} band`);
+      expect(cmp.flags.smdOverThreshold).toBe(Math.abs(expected) > 0.1);
+      expect(cmp.flags.beyondChance).toBe(Math.abs(expected) > band.halfWidth);
+      checked++;
+    }
+  }
+  return checked;
+}
+
+function person(r: () => number, sites: number, arms: number, shift = 0): Enrollee {
+  const arm = Math.floor(r() * arms);
+  const region = ['north', 'south', 'east'][Math.floor(r() * 3)]!;
+  return {
+    site: Math.floor(r() * sites),
+    arm,
+    values: {
+      age: Math.round(normal(r, 62 + shift * arm, 9) * 10) / 10,
+      fev1: r() < 0.1 ? null : normal(r, 1.9, 0.5),
+      // Some binary values arrive as text, as an import might send them.
+      smoker: r() < 0.3 ? (r() < 0.4 ? 'yes' : 'no') : r() < 0.35 ? 1 : 0,
+      region,
+    },
+  };
+}
+
+describe('balance.recompute job', () => {
+  let t: TestContext;
+  beforeAll(async () => {
+    t = await createTestContext();
+  });
+  afterAll(async () => {
+    await t.close();
+  });
+
+  it('when a random sequence of imports, enrollments, corrections, withdrawals and site moves is processed incrementally, then every snapshot equals a direct computation from the stored rows', async () => {
+    const study = await createBalanceStudy(t, { sites: ['S1', 'S2', 'S3'], covariates: COVS });
+    const r = rng(20260501);
+    const ids: string[] = [];
+    ids.push(...(await enroll(t, study, Array.from({ length: 60 }, () => person(r, 3, 2)))));
+    await enqueue(t, study.id, 'import');
+    await runJob(t, { studyId: study.id, reason: 'import' });
+    const kinds: string[] = [];
+    let checked = 0;
+    for (let step = 0; step < 14; step++) {
+      const op = step % 7;
+      if (op === 0) ids.push(...(await enroll(t, study, [person(r, 3, 2)])));
+      else if (op === 1) await correct(t, study, ids[Math.floor(r() * ids.length)]!, 'age', Math.round(normal(r, 60, 10)));
+      else if (op === 2) await withdraw(t, ids[Math.floor(r() * ids.length)]!);
+      else if (op === 3) await correct(t, study, ids[Math.floor(r() * ids.length)]!, 'fev1', null);
+      else if (op === 4) {
+        const id = ids[Math.floor(r() * ids.length)]!;
+        await correct(t, study, id, 'region', 'east');
+        await correct(t, study, id, 'smoker', 'yes');
+        await correct(t, study, id, 'region', 'south');
+      } else if (op === 5) {
+        await t.ownerQuery(`UPDATE participant SET site_id = $2, updated_at = now() WHERE id = $1`, [
+          ids[Math.floor(r() * ids.length)]!,
+          study.siteIds[Math.floor(r() * 3)],
+        ]);
+      } else {
+        // A participant screened (not counted) and one import batch of five.
+        await enroll(t, study, [{ ...person(r, 3, 2), status: 'screened' }]);
+        ids.push(...(await enroll(t, study, Array.from({ length: 5 }, () => person(r, 3, 2)))));
+      }
+      await runJob(t, { studyId: study.id, reason: 'change' });
+      const snap = await latest(t, study.id);
+      kinds.push(snap.kind);
+      const stored = await readCounted(t, study);
+      expect(snap.body.snapshot.enrolledCount).toBe(stored.length);
+      checked += checkScope(study, snap.body, stored, true, `step ${step} overall`);
+      for (const siteId of study.siteIds) {
+        checked += checkScope(study, snap.sites.get(siteId)!, stored.filter((x) => x.siteId === siteId), false, `step ${step} site`);
+      }
+    }
+    expect(kinds.filter((k) => k === 'incremental').length).toBeGreaterThan(5);
+    expect(checked).toBeGreaterThan(100);
+    // The change log is consumed, and a rebuild from all rows gives the same accumulators.
+    const [{ n: left }] = (await t.ownerQuery<{ n: number }>(`SELECT count(*)::int AS n FROM balance_change WHERE study_id = $1`, [study.id])) as [{ n: number }];
+    expect(left).toBe(0);
+    const before = await t.ownerQuery<{ k: string; state: { n: number; mean: number; m2: number } }>(
+      `SELECT site_id::text || arm_id::text || covariate_key || '|' || level AS k, state FROM balance_accumulator WHERE study_id = $1 ORDER BY 1`,
+      [study.id],
+    );
+    await runJob(t, { studyId: study.id, reason: 'manual', full: true });
+    const after = await t.ownerQuery<{ k: string; state: { n: number; mean: number; m2: number } }>(
+      `SELECT site_id::text || arm_id::text || covariate_key || '|' || level AS k, state FROM balance_accumulator WHERE study_id = $1 ORDER BY 1`,
+      [study.id],
+    );
+    expect(after.map((a) => a.k)).toEqual(before.map((b) => b.k));
+    after.forEach((a, i) => {
+      expect(a.state.n).toBe(before[i]!.state.n);
+      close(before[i]!.state.mean, a.state.mean, `mean ${a.k}`, 1e-9);
+      close(before[i]!.state.m2, a.state.m2, `m2 ${a.k}`, 1e-7);
+    });
+  });
+
+  it('when a study has three arms, then each arm is compared with the first (reference) arm and the snapshot says so', async () => {
+    const study = await createBalanceStudy(t, { sites: ['S1', 'S2'], arms: ['A', 'B', 'C'], covariates: COVS });
+    const r = rng(77);
+    await enroll(t, study, Array.from({ length: 90 }, () => person(r, 2, 3, 2)));
+    await runJob(t, { studyId: study.id, reason: 'import' });
+    const snap = await latest(t, study.id);
+    expect(snap.body.referenceArmId).toBe(study.armIds[0]);
+    expect(snap.body.comparisonNote).toMatch(/pairwise with the reference arm A/);
+    for (const c of snap.body.covariates) expect(c.balance.comparisons.map((x) => x.armId)).toEqual(study.armIds.slice(1));
+    checkScope(study, snap.body, await readCounted(t, study), true, '3 arms');
+  });
+});
