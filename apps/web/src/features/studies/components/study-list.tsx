@@ -20,7 +20,48 @@ export function StudyList() {
       </EmptyState>
     );
   }
-  return <StudyTable studies={studies.data} />;
+  return (
+    <>
+      <div className="hidden sm:block">
+        <StudyTable studies={studies.data} />
+      </div>
+      <StudyCards studies={studies.data} />
+    </>
+  );
+}
+
+/** Narrow screens: one card per study instead of a table that would scroll sideways. */
+function StudyCards({ studies }: { studies: StudySummary[] }) {
+  return (
+    <ul className="flex flex-col gap-3 sm:hidden" aria-label="Studies">
+      {studies.map((study) => (
+        <li key={study.id}>
+          <Link
+            to={paths.studies.study.href(study.id)}
+            className="flex flex-col gap-3 rounded-card border border-rule bg-vellum p-4 shadow-card hover:border-pebble"
+          >
+            <span className="flex flex-col gap-0.5">
+              <span className="figure text-xs font-medium text-clay">{study.code}</span>
+              <span className="font-semibold text-ink">{study.title}</span>
+            </span>
+            <span className="flex flex-wrap gap-1.5">
+              <KindBadge kind={study.kind} />
+              <BlindingBadge blinding={study.blinding} />
+              <StatusBadge status={study.status} />
+            </span>
+            <ProgressMeter
+              value={study.enrolled}
+              max={study.targetSampleSize}
+              label={`Enrollment of ${study.code}`}
+            />
+            <span className="text-sm text-graphite">
+              <span className="figure">{study.siteCount}</span> sites · {describeRole(study.myRole)}
+            </span>
+          </Link>
+        </li>
+      ))}
+    </ul>
+  );
 }
 
 function StudyTable({ studies }: { studies: StudySummary[] }) {
