@@ -37,3 +37,34 @@ export {
   type ImbalanceMeasure,
 } from './minimizationAssign/minimizationAssign.js';
 export { ALLOCATION_ALGORITHM_VERSION, type AllocationAlgorithm } from './allocationAlgorithmVersion/allocationAlgorithmVersion.js';
+
+// Distributions, least squares, ANOVA, ANCOVA and assumption checks
+export {
+  fCdfUpper,
+  fQuantile,
+  tCdf,
+  tTwoSidedP,
+  tQuantile,
+  normalCdf,
+  normalCdfUpper,
+  normalQuantile,
+  chiSquareCdfUpper,
+  chiSquareQuantile,
+} from './distributions/distributions.js';
+export {
+  leastSquares,
+  sequentialSSForOrder,
+  typeThreeSS,
+  hc3Covariance,
+  CollinearColumnError,
+  type LeastSquaresInput,
+  type LeastSquaresFit,
+  type Hc3Result,
+} from './leastSquares/leastSquares.js';
+export { oneWayAnova, type OneWayAnovaResult } from './oneWayAnova/oneWayAnova.js';
+export { ancova, type AncovaResult, type AncovaTerm } from './ancova/ancova.js';
+export type { AncovaInput, GroupLabel } from './ancova/ancovaDesign.js';
+export { slopeHomogeneityTest, type SlopeHomogeneityResult } from './slopeHomogeneityTest/slopeHomogeneityTest.js';
+export { leveneTest, type LeveneCenter, type LeveneResult } from './leveneTest/leveneTest.js';
+export { sdRatioRule, type SdRatioResult } from './sdRatioRule/sdRatioRule.js';
+export { shapiroWilk, type ShapiroWilkResult } from './shapiroWilk/shapiroWilk.js';
