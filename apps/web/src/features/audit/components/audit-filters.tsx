@@ -80,7 +80,7 @@ export function AuditFiltersForm({ studies, fixedStudyId, onApply }: AuditFilter
       <div className="grid gap-4 sm:grid-cols-2 lg:grid-cols-4">
         {!fixedStudyId && (
           <SelectField label="Study" {...register('studyId')}>
-            <option value="">All studies and account events</option>
+            <option value="">All (studies and account events)</option>
             {studies.map((s) => (
               <option key={s.id} value={s.id}>
                 {studyOptionLabel(s)}
