@@ -1,7 +1,9 @@
 import type { Router } from 'express';
 import type { AppContext } from './app-context.js';
+import { balanceRoutes } from './modules/balance/balance.routes.js';
 import { designRoutes } from './modules/design/design.routes.js';
 import { participantsRoutes } from './modules/participants/participants.routes.js';
+import { uploadsRoutes } from './modules/participants/uploads.routes.js';
 
 /**
  * Route modules of the later capabilities (design and enrollment, balance, analysis), each
@@ -10,4 +12,6 @@ import { participantsRoutes } from './modules/participants/participants.routes.j
 export const routeModules: ((ctx: AppContext) => Router)[] = [
   designRoutes,
   participantsRoutes,
+  uploadsRoutes,
+  balanceRoutes,
 ];

@@ -1,0 +1,251 @@
+import {
+  alertListQuerySchema,
+  alertPatchBodySchema,
+  balanceCautions,
+  balanceHistoryQuerySchema,
+  balanceQuerySchema,
+  baselineTableQuerySchema,
+  type BalanceArmsView,
+  type BalanceHistory,
+  type BalancePooledView,
+  type BaselineTable,
+} from '@counterpoise/contracts/balance';
+import { Router, type Request, type Response } from 'express';
+import { z } from 'zod';
+import type { AppContext } from '../../app-context.js';
+import { inTransaction } from '../../db/transaction.js';
+import { AppError, forbidden, notFound } from '../../http/app-error.js';
+import { toCsv } from '../../http/csv.js';
+import { body, params, query } from '../../http/validate.js';
+import { appendAudit } from '../audit/audit.service.js';
+import { authorize, roleLabel, type StudyAccess } from '../policy/policy.js';
+import { rows } from './balance-config.js';
+import type { PooledBody, TrendPoint } from './balance-snapshot.js';
+import {
+  alertDto,
+  alertSelect,
+  baselinePValues,
+  baselineTable,
+  freshness,
+  latestArmsText,
+  listAlerts,
+} from './balance.service.js';
+import './balance.operations.js';
+
+const studyParams = z.object({ studyId: z.uuid() });
+const alertParams = z.object({ studyId: z.uuid(), alertId: z.uuid() });
+
+async function assertSite(ctx: AppContext, studyId: string, siteId: string | undefined): Promise<void> {
+  if (!siteId) return;
+  const [s] = await rows<{ id: string }>(ctx.ds, `SELECT id FROM site WHERE id = $1 AND study_id = $2`, [siteId, studyId]);
+  if (!s) throw notFound('Site');
+}
+
+function requireArms(access: StudyAccess): void {
+  if (!access.permissions.includes('balance.arms')) {
+    throw forbidden('Arm-level balance is shown to the unblinded statistician only');
+  }
+}
+
+async function noSnapshot(ctx: AppContext, studyId: string): Promise<never> {
+  throw new AppError('not_found', 'No balance snapshot has been computed for this study yet', {
+    freshness: await freshness(ctx.ds, studyId, null, null),
+  });
+}
+
+/** Sends the stored snapshot text with freshness spliced in, without parsing it (the hot path). */
+function sendWithFreshness(res: Response, fresh: object, storedJson: string): void {
+  res.type('application/json').send(`{"freshness":${JSON.stringify(fresh)},${storedJson.slice(1)}`);
+}
+
+async function latestArmsView(ctx: AppContext, studyId: string, siteId: string | null): Promise<BalanceArmsView> {
+  const latest = await latestArmsText(ctx.ds, studyId, siteId);
+  if (!latest) return noSnapshot(ctx, studyId);
+  const stored = JSON.parse(latest.text) as Omit<BalanceArmsView, 'freshness'>;
+  return { ...stored, freshness: await freshness(ctx.ds, studyId, latest.computedAt, latest.enrolled) };
+}
+
+export function balanceRoutes(ctx: AppContext): Router {
+  const r = Router();
+
+  r.get('/studies/:studyId/balance', async (req, res) => {
+    const { studyId } = params(req, studyParams);
+    const access = authorize(req, studyId, 'balance.pooled');
+    const q = query(req, balanceQuerySchema);
+    await assertSite(ctx, studyId, q.site);
+    const arms = q.view ? q.view === 'arms' : access.permissions.includes('balance.arms');
+    if (arms) {
+      requireArms(access);
+      const latest = await latestArmsText(ctx.ds, studyId, q.site ?? null);
+      if (!latest) return noSnapshot(ctx, studyId);
+      sendWithFreshness(res, await freshness(ctx.ds, studyId, latest.computedAt, latest.enrolled), latest.text);
+      return;
+    }
+    // Pooled and blinded: read from the pooled column only, which carries no arm.
+    const [p] = await rows<{ computed_at: Date; enrolled_count: number; pooled: PooledBody }>(
+      ctx.ds,
+      `SELECT computed_at, enrolled_count, pooled FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
+      [studyId],
+    );
+    if (!p) return noSnapshot(ctx, studyId);
+    const view: BalancePooledView = {
+      ...p.pooled,
+      sites: q.site ? p.pooled.sites.filter((s) => s.siteId === q.site) : p.pooled.sites,
+      freshness: await freshness(ctx.ds, studyId, p.computed_at, p.enrolled_count),
+    };
+    res.json(view);
+  });
+
+  r.get('/studies/:studyId/balance/history', async (req, res) => {
+    const { studyId } = params(req, studyParams);
+    requireArms(authorize(req, studyId, 'balance.pooled'));
+    const q = query(req, balanceHistoryQuerySchema);
+    await assertSite(ctx, studyId, q.site);
+    const limit = q.points ?? 200;
+    // Evenly thinned over the snapshots, always keeping the latest.
+    const points = await rows<{ computed_at: Date; enrolled_count: number; t: Record<string, TrendPoint[]> | null }>(
+      ctx.ds,
+      `WITH s AS (
+         SELECT id, row_number() OVER (ORDER BY computed_at) AS rn, count(*) OVER () AS total
+           FROM balance_snapshot WHERE study_id = $1)
+       SELECT b.computed_at, b.enrolled_count, ${q.site ? `b.trend -> 'sites' -> $3::text` : `b.trend -> 'overall'`} AS t
+         FROM s JOIN balance_snapshot b ON b.id = s.id
+        WHERE s.total <= $2 OR s.rn = s.total OR (s.rn - 1) % ceil(s.total::numeric / $2)::int = 0
+        ORDER BY b.computed_at`,
+      q.site ? [studyId, limit, q.site] : [studyId, limit],
+    );
+    const latest = await latestArmsText(ctx.ds, studyId, null);
+    const meta = latest ? (JSON.parse(latest.text) as Omit<BalanceArmsView, 'freshness'>) : null;
+    const series: BalanceHistory['series'] = [];
+    for (const cov of meta?.covariates ?? []) {
+      for (const cmp of cov.balance.comparisons) {
+        series.push({
+          key: cov.key,
+          label: cov.label,
+          armId: cmp.armId,
+          points: points.map((p) => {
+            const hit = p.t?.[cov.key]?.find((x) => x[0] === cmp.armId);
+            return {
+              computedAt: p.computed_at.toISOString(),
+              enrolledCount: p.enrolled_count,
+              smd: hit?.[1] ?? null,
+              halfWidth: hit?.[2] ?? null,
+            };
+          }),
+        });
+      }
+    }
+    const out: BalanceHistory = {
+      freshness: await freshness(ctx.ds, studyId, latest?.computedAt ?? null, latest?.enrolled ?? null),
+      arms: meta?.arms ?? [],
+      referenceArmId: meta?.referenceArmId ?? null,
+      comparisonNote: meta?.comparisonNote ?? null,
+      threshold: meta?.rules.smdThreshold ?? 0.1,
+      scope: { siteId: q.site ?? null },
+      series,
+      cautions: meta?.cautions ?? [balanceCautions.judgement],
+    };
+    res.json(out);
+  });
+
+  r.post('/studies/:studyId/balance/recompute', async (req, res) => {
+    const { studyId } = params(req, studyParams);
+    requireArms(authorize(req, studyId, 'balance.pooled'));
+    const actor = req.actor!;
+    const jobId = await inTransaction(ctx.ds, async (tx) => {
+      // Its own singleton key, so a queued incremental run cannot swallow the request for a full one.
+      const id = await ctx.jobs.send(tx, 'balance.recompute', { studyId, reason: 'manual', full: true }, { singletonKey: `full:${studyId}` });
+      await appendAudit(tx, { userId: actor.userId, email: actor.email, role: roleLabel(actor, studyId), requestId: req.requestId }, [
+        {
+          action: 'balance.recompute_requested',
+          entityType: 'study',
+          entityId: studyId,
+          studyId,
+          after: { jobId: id, full: true, alreadyPending: id === null },
+        },
+      ]);
+      return id;
+    });
+    res.status(202).json({ jobId, alreadyPending: jobId === null });
+  });
+
+  r.get('/studies/:studyId/alerts', async (req, res) => {
+    const { studyId } = params(req, studyParams);
+    authorize(req, studyId, 'alerts.manage');
+    const q = query(req, alertListQuerySchema);
+    const [study] = await rows<{ kind: string }>(ctx.ds, `SELECT kind FROM study WHERE id = $1`, [studyId]);
+    const cautions =
+      study?.kind === 'randomized_trial'
+        ? [balanceCautions.randomizedImbalance, balanceCautions.judgement]
+        : [balanceCautions.weighting, balanceCautions.judgement];
+    res.json({ alerts: await listAlerts(ctx.ds, studyId, q.state), cautions });
+  });
+
+  r.patch('/studies/:studyId/alerts/:alertId', async (req, res) => {
+    const { studyId, alertId } = params(req, alertParams);
+    authorize(req, studyId, 'alerts.manage');
+    const input = body(req, alertPatchBodySchema);
+    const actor = req.actor!;
+    const alert = await inTransaction(ctx.ds, async (tx) => {
+      const [current] = await rows<{ state: string; acknowledge_comment: string | null; site_id: string | null }>(
+        tx,
+        `SELECT state, acknowledge_comment, site_id FROM alert WHERE id = $1 AND study_id = $2 FOR UPDATE`,
+        [alertId, studyId],
+      );
+      if (!current) throw notFound('Alert');
+      if (current.state === 'cleared') throw new AppError('conflict', 'This alert has already cleared; nothing to acknowledge');
+      await tx.query(
+        `UPDATE alert SET state = 'acknowledged', acknowledged_by = $2, acknowledged_at = now(), acknowledge_comment = $3 WHERE id = $1`,
+        [alertId, actor.userId, input.comment],
+      );
+      await appendAudit(tx, { userId: actor.userId, email: actor.email, role: roleLabel(actor, studyId), requestId: req.requestId }, [
+        {
+          action: 'balance.alert_acknowledged',
+          entityType: 'alert',
+          entityId: alertId,
+          studyId,
+          siteId: current.site_id,
+          before: { state: current.state, comment: current.acknowledge_comment },
+          after: { state: 'acknowledged', comment: input.comment },
+          reason: input.comment,
+          revealsAllocation: true,
+        },
+      ]);
+      const [row] = await rows<Parameters<typeof alertDto>[0]>(tx, `${alertSelect} WHERE a.id = $1`, [alertId]);
+      return alertDto(row!);
+    });
+    res.json({ alert });
+  });
+
+  const table = async (req: Request): Promise<{ studyId: string; out: BaselineTable }> => {
+    const { studyId } = params(req, studyParams);
+    requireArms(authorize(req, studyId, 'balance.pooled'));
+    const q = query(req, baselineTableQuerySchema);
+    await assertSite(ctx, studyId, q.site);
+    const view = await latestArmsView(ctx, studyId, q.site ?? null);
+    const base = baselineTable(view);
+    const pValues = q.pvalues ? await baselinePValues(ctx.ds, studyId, view.snapshot.studyKind, view) : null;
+    return { studyId, out: { ...base, freshness: view.freshness, pValues } };
+  };
+
+  r.get('/studies/:studyId/baseline-table', async (req, res) => {
+    res.json((await table(req)).out);
+  });
+
+  r.get('/studies/:studyId/baseline-table.csv', async (req, res) => {
+    const { out } = await table(req);
+    const header = ['covariate', 'label', 'statistic', 'level', ...out.columns.map((c) => `${c.label} (n=${c.n})`)];
+    const body = out.rows.map((row) => [row.covariateKey, row.label, row.statistic, row.level, ...row.cells.map((c) => c.text)]);
+    const tail: unknown[][] = [[], ['note', `snapshot computed at ${out.freshness.computedAt ?? 'never'} (UTC)`], ...out.cautions.map((c) => ['note', c])];
+    if (out.pValues) {
+      // Kept apart from the table, under its caution.
+      tail.push([], ['p-values (labelled)', out.pValues.caution], ['method', out.pValues.method]);
+      for (const p of out.pValues.values) tail.push(['p-value', p.covariateKey, p.armId, p.pValue ?? '', p.test]);
+    }
+    res.setHeader('Content-Type', 'text/csv; charset=utf-8');
+    res.setHeader('Content-Disposition', 'attachment; filename="counterpoise-baseline-table.csv"');
+    res.send(toCsv(header, [...body, ...tail]));
+  });
+
+  return r;
+}

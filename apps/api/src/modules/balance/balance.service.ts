@@ -1,0 +1,254 @@
+import {
+  balanceCautions,
+  type Alert,
+  type BalanceArmsView,
+  type BaselineTable,
+  type CovariateSummary,
+  type Freshness,
+} from '@counterpoise/contracts/balance';
+import { oneWayAnova } from '@counterpoise/stats';
+import { armSql, codeValue, rows, type Queryable } from './balance-config.js';
+
+/** Queued or running recompute jobs of this study (pg-boss keeps them in its own schema). */
+export async function recomputePending(db: Queryable, studyId: string): Promise<boolean> {
+  const [r] = await rows<{ pending: boolean }>(
+    db,
+    `SELECT EXISTS (
+       SELECT 1 FROM pgboss.job
+        WHERE name = 'balance.recompute' AND singleton_key IN ($1, 'full:' || $1)
+          AND state IN ('created', 'retry', 'active')) AS pending`,
+    [studyId],
+  );
+  return r?.pending ?? false;
+}
+
+export async function freshness(db: Queryable, studyId: string, computedAt: Date | null, enrolled: number | null): Promise<Freshness> {
+  return {
+    computedAt: computedAt ? computedAt.toISOString() : null,
+    recomputePending: await recomputePending(db, studyId),
+    enrolledCount: enrolled,
+  };
+}
+
+/** The latest snapshot's stored arm-level view as JSON text (overall, or one site's detail). */
+export async function latestArmsText(
+  db: Queryable,
+  studyId: string,
+  siteId: string | null,
+): Promise<{ computedAt: Date; enrolled: number; text: string } | null> {
+  const [r] = siteId
+    ? await rows<{ computed_at: Date; enrolled_count: number; text: string }>(
+        db,
+        `SELECT s.computed_at, s.enrolled_count, x.result::text AS text
+           FROM balance_snapshot s JOIN balance_snapshot_site x ON x.snapshot_id = s.id AND x.site_id = $2
+          WHERE s.study_id = $1 ORDER BY s.computed_at DESC LIMIT 1`,
+        [studyId, siteId],
+      )
+    : await rows<{ computed_at: Date; enrolled_count: number; text: string }>(
+        db,
+        `SELECT computed_at, enrolled_count, result::text AS text FROM balance_snapshot
+          WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
+        [studyId],
+      );
+  return r ? { computedAt: r.computed_at, enrolled: r.enrolled_count, text: r.text } : null;
+}
+
+type AlertRow = {
+  id: string;
+  rule: Alert['rule'];
+  covariate_key: string;
+  covariate_label: string | null;
+  site_id: string | null;
+  site_code: string | null;
+  arm_id: string;
+  reference_arm_id: string;
+  state: Alert['state'];
+  opening: number;
+  opened_at: Date;
+  acknowledged_at: Date | null;
+  acknowledged_by: string | null;
+  acknowledged_email: string | null;
+  acknowledge_comment: string | null;
+  cleared_at: Date | null;
+  last_evaluated_at: Date;
+  last_smd: number | null;
+  last_variance_ratio: number | null;
+  last_half_width: number | null;
+  last_n_arm: number;
+  last_n_reference: number;
+};
+
+export const alertSelect = `
+  SELECT a.id, a.rule, a.covariate_key, c.label AS covariate_label, a.site_id, s.code AS site_code, a.arm_id,
+         a.reference_arm_id, a.state, a.opening, a.opened_at, a.acknowledged_at, a.acknowledged_by,
+         u.email AS acknowledged_email, a.acknowledge_comment, a.cleared_at, a.last_evaluated_at, a.last_smd,
+         a.last_variance_ratio, a.last_half_width, a.last_n_arm, a.last_n_reference
+    FROM alert a
+    LEFT JOIN covariate_definition c ON c.study_id = a.study_id AND c.key = a.covariate_key
+    LEFT JOIN site s ON s.id = a.site_id
+    LEFT JOIN app_user u ON u.id = a.acknowledged_by`;
+
+export function alertDto(r: AlertRow): Alert {
+  return {
+    id: r.id,
+    rule: r.rule,
+    covariateKey: r.covariate_key,
+    covariateLabel: r.covariate_label ?? r.covariate_key,
+    siteId: r.site_id,
+    siteCode: r.site_code,
+    armId: r.arm_id,
+    referenceArmId: r.reference_arm_id,
+    state: r.state,
+    opening: r.opening,
+    openedAt: r.opened_at.toISOString(),
+    acknowledgedAt: r.acknowledged_at?.toISOString() ?? null,
+    acknowledgedBy: r.acknowledged_by ? { id: r.acknowledged_by, email: r.acknowledged_email ?? '' } : null,
+    comment: r.acknowledge_comment,
+    clearedAt: r.cleared_at?.toISOString() ?? null,
+    lastEvaluatedAt: r.last_evaluated_at.toISOString(),
+    lastSmd: r.last_smd,
+    lastVarianceRatio: r.last_variance_ratio,
+    lastHalfWidth: r.last_half_width,
+    lastNArm: r.last_n_arm,
+    lastNReference: r.last_n_reference,
+  };
+}
+
+export async function listAlerts(db: Queryable, studyId: string, state?: string): Promise<Alert[]> {
+  const filter =
+    state === 'active' ? `AND a.state IN ('open', 'acknowledged')` : state ? `AND a.state = $2` : '';
+  const data = await rows<AlertRow>(
+    db,
+    `${alertSelect} WHERE a.study_id = $1 ${filter} ORDER BY a.opened_at DESC, a.covariate_key`,
+    state && state !== 'active' ? [studyId, state] : [studyId],
+  );
+  return data.map(alertDto);
+}
+
+const num = (x: number | null, digits: number) => (x === null ? '—' : x.toFixed(digits));
+const digitsFor = (x: number | null) => (x !== null && Math.abs(x) >= 100 ? 0 : x !== null && Math.abs(x) >= 10 ? 1 : 2);
+
+function participantsOf(s: CovariateSummary | undefined): number {
+  return s ? s.n + s.missing : 0;
+}
+
+/**
+ * The baseline table (CONSORT item 15 layout): one column per arm and one overall; mean (SD)
+ * and median [IQR] for continuous covariates, n (%) per level otherwise, and missing counts.
+ */
+export function baselineTable(view: BalanceArmsView): Omit<BaselineTable, 'freshness' | 'pValues'> {
+  const columns = [
+    ...view.arms.map((a) => ({
+      column: a.id,
+      label: `${a.code} (${a.name})`,
+      n: participantsOf(view.covariates[0]?.balance.byArm.find((b) => b.armId === a.id)?.summary),
+    })),
+    { column: 'overall', label: 'Overall', n: participantsOf(view.covariates[0]?.balance.pooled) },
+  ];
+  const tableRows: BaselineTable['rows'] = [];
+  for (const cov of view.covariates) {
+    const cellsOf = (f: (s: CovariateSummary) => { text: string; n: number }) => [
+      ...view.arms.map((a) => {
+        const s = cov.balance.byArm.find((b) => b.armId === a.id)!.summary;
+        return { column: a.id, ...f(s) };
+      }),
+      { column: 'overall', ...f(cov.balance.pooled) },
+    ];
+    const label = cov.unit ? `${cov.label} (${cov.unit})` : cov.label;
+    if (cov.kind === 'continuous') {
+      tableRows.push({
+        covariateKey: cov.key,
+        label,
+        statistic: 'mean_sd',
+        level: null,
+        cells: cellsOf((s) => ({ text: `${num(s.mean, digitsFor(s.mean))} (${num(s.sd, digitsFor(s.sd))})`, n: s.n })),
+      });
+      tableRows.push({
+        covariateKey: cov.key,
+        label,
+        statistic: 'median_iqr',
+        level: null,
+        cells: cellsOf((s) => ({
+          text: s.median === null ? '—' : `${num(s.median, digitsFor(s.median))} [${num(s.q1, digitsFor(s.q1))}, ${num(s.q3, digitsFor(s.q3))}]`,
+          n: s.n,
+        })),
+      });
+    } else {
+      const levels = cov.kind === 'binary' ? ['1'] : (cov.balance.pooled.levels ?? []).map((l) => l.level);
+      for (const level of levels) {
+        tableRows.push({
+          covariateKey: cov.key,
+          label,
+          statistic: 'level',
+          level: cov.kind === 'binary' ? 'yes' : level,
+          cells: cellsOf((s) => {
+            const l = s.levels?.find((x) => x.level === level);
+            return { text: l ? `${l.n} (${num(l.percent, 1)}%)` : '0', n: l?.n ?? 0 };
+          }),
+        });
+      }
+    }
+    tableRows.push({
+      covariateKey: cov.key,
+      label,
+      statistic: 'missing',
+      level: null,
+      cells: cellsOf((s) => ({ text: String(s.missing), n: s.missing })),
+    });
+  }
+  const cautions = [...view.cautions];
+  if (view.scope.siteId) cautions.unshift('Medians and quartiles are kept for the overall table only; a site table shows mean (SD).');
+  return { scope: view.scope, columns, rows: tableRows, cautions };
+}
+
+/**
+ * Baseline p-values, only on request and always labelled (DOMAIN.md caution 1). Continuous
+ * covariates: one-way ANOVA F test of arm vs reference (equal to the pooled two-sample t test
+ * for two groups), from the stats package, on the rows read now. There is no test for binary or
+ * categorical data in packages/stats yet, so those are left empty rather than written here.
+ */
+export async function baselinePValues(
+  db: Queryable,
+  studyId: string,
+  kind: 'randomized_trial' | 'observational_cohort',
+  view: BalanceArmsView,
+): Promise<NonNullable<BaselineTable['pValues']>> {
+  const data = await rows<{ key: string; kind: 'continuous' | 'binary' | 'categorical'; arm_id: string; n: number | null; t: string | null }>(
+    db,
+    `SELECT c.key, c.kind, ${armSql(kind)} AS arm_id, b.value_number AS n, b.value_text AS t
+       FROM participant p LEFT JOIN allocation a ON a.participant_id = p.id
+       JOIN baseline_value b ON b.participant_id = p.id
+       JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1 AND c.kind = 'continuous'
+      WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(kind)} IS NOT NULL
+        AND ($2::uuid IS NULL OR p.site_id = $2)`,
+    [studyId, view.scope.siteId],
+  );
+  const groups = new Map<string, number[]>();
+  for (const r of data) {
+    const v = codeValue(r.kind, r.n, r.t);
+    if (typeof v !== 'number') continue;
+    const k = `${r.key}|${r.arm_id}`;
+    groups.set(k, [...(groups.get(k) ?? []), v]);
+  }
+  const values: NonNullable<BaselineTable['pValues']>['values'] = [];
+  for (const cov of view.covariates) {
+    for (const c of cov.balance.comparisons) {
+      if (cov.kind !== 'continuous') {
+        values.push({ covariateKey: cov.key, armId: c.armId, pValue: null, test: 'none (no test for categorical data in the stats package)' });
+        continue;
+      }
+      let p: number | null = null;
+      try {
+        p = oneWayAnova([groups.get(`${cov.key}|${c.armId}`) ?? [], groups.get(`${cov.key}|${c.referenceArmId}`) ?? []]).between.p;
+      } catch (err) {
+        if (!(err instanceof RangeError)) throw err;
+      }
+      values.push({ covariateKey: cov.key, armId: c.armId, pValue: p, test: 'one-way ANOVA F test, arm vs reference' });
+    }
+  }
+  return {
+    caution: balanceCautions.consortPValues,
+    method: 'Continuous covariates: one-way ANOVA F test of each arm against the reference arm (the pooled two-sample t test). Binary and categorical covariates: not computed.',
+    values,
+  };
+}
