@@ -2,7 +2,8 @@
  * ANCOVA with 3 covariates and 2 arms on 1,000,000 rows (target: under 2 s, issue 3).
  * Data come from a seeded generator (seedrandom), so runs are comparable. Prints the time
  * of the full `ancova` call (validation, QR, Type III SS, adjusted means, HC3, one-way ANOVA,
- * residuals) as the median of 3 runs after one warm-up, plus slopeHomogeneityTest.
+ * residuals) as the median of 3 runs after one warm-up (wall and process CPU time), plus
+ * slopeHomogeneityTest.
  */
 import seedrandom from 'seedrandom';
 import { ancova } from '../src/ancova/ancova.js';
@@ -43,15 +44,22 @@ export function run(): void {
   const data = makeData(n);
   ancova(data); // warm-up
   const times: number[] = [];
+  const cpu: number[] = [];
   let f = 0;
   for (let r = 0; r < 3; r++) {
+    const c0 = process.cpuUsage();
     const t0 = performance.now();
     const res = ancova(data);
     times.push(performance.now() - t0);
+    const c = process.cpuUsage(c0);
+    cpu.push((c.user + c.system) / 1000);
     f = res.terms.find((t) => t.term === 'group')?.f ?? Number.NaN;
   }
   const ms = median(times);
-  console.log(`ancova, 3 covariates, ${n.toLocaleString('en-US')} rows: ${ms.toFixed(0)} ms (median of 3; target < 2000 ms) [group F = ${f.toFixed(1)}]`);
+  // CPU time is printed too: on a shared 2-core machine wall time also counts waiting for a core.
+  console.log(
+    `ancova, 3 covariates, ${n.toLocaleString('en-US')} rows: ${ms.toFixed(0)} ms wall, ${median(cpu).toFixed(0)} ms CPU (median of 3; target < 2000 ms) [group F = ${f.toFixed(1)}]`,
+  );
   const t0 = performance.now();
   const sh = slopeHomogeneityTest(data);
   console.log(`slopeHomogeneityTest, 3 covariates, ${n.toLocaleString('en-US')} rows: ${(performance.now() - t0).toFixed(0)} ms (single run) [F = ${sh.f.toFixed(3)}]`);

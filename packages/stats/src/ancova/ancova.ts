@@ -304,8 +304,14 @@ export function ancova(input: AncovaInput): AncovaResult {
 
   let unadjusted: OneWayAnovaResult;
   if (w === undefined) {
-    const groups: number[][] = d.levels.map(() => []);
-    for (let i = 0; i < d.n; i++) (groups[d.levelIndex[i] as number] as number[]).push(d.outcome[i] as number);
+    const groups = d.levelCounts.map((c) => new Float64Array(c));
+    const fill = new Int32Array(k);
+    for (let i = 0; i < d.n; i++) {
+      const li = d.levelIndex[i] as number;
+      const pos = fill[li] as number;
+      (groups[li] as Float64Array)[pos] = d.outcome[i] as number;
+      fill[li] = pos + 1;
+    }
     unadjusted = oneWayAnova(groups);
   } else {
     unadjusted = weightedOneWay(d, sst, ybar);

@@ -125,4 +125,10 @@ describe('leastSquares bad input', () => {
     expect(() => leastSquares({ x: columnMajor([[1, 1], [1, 2]]), n: 2, p: 2, y: [1, 2] })).toThrow(/more observations/);
     expect(() => leastSquares({ x, n: 3, p: 2, y: [1, 2, 3], weights: [1, 0, 1] })).toThrow(/more observations/);
   });
+  it('sequentialSSForOrder rejects an order that is not a permutation of the columns', () => {
+    const fit = leastSquares({ x, n: 3, p: 2, y: [1, 2, 4] });
+    expect(() => sequentialSSForOrder(fit, [0, 0])).toThrow(/order must be a permutation of 0..1/);
+    expect(() => sequentialSSForOrder(fit, [0])).toThrow(RangeError);
+    expect(() => sequentialSSForOrder(fit, [0, 2])).toThrow(RangeError);
+  });
 });
