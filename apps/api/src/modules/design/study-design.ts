@@ -61,21 +61,20 @@ export async function loadDesign(q: Queryable, studyId: string, opts: { lock?: b
   if (cached && cached.designVersion === s.designVersion && cached.status === s.status && cached.targetSampleSize === s.targetSampleSize) {
     return cached;
   }
-  const [arms, sites, covariates] = await Promise.all([
-    q.query(`SELECT id, code, name, ratio, position FROM arm WHERE study_id = $1 ORDER BY position, code`, [studyId]) as Promise<ArmRecord[]>,
-    q.query(
+  // Sequential: inside a transaction these share one connection.
+  const arms: ArmRecord[] = await q.query(`SELECT id, code, name, ratio, position FROM arm WHERE study_id = $1 ORDER BY position, code`, [studyId]);
+  const sites: SiteRecord[] = await q.query(
       `SELECT id, code, name, enrollment_target AS "enrollmentTarget", status FROM site WHERE study_id = $1 ORDER BY code`,
       [studyId],
-    ) as Promise<SiteRecord[]>,
-    q.query(
+  );
+  const covariates: CovariateDto[] = await q.query(
       `SELECT id, key, label, kind, unit, min_value AS min, max_value AS max, decimals, levels, required,
               window_days_before AS "windowDaysBefore", window_days_after AS "windowDaysAfter",
               is_stratification AS "isStratification", is_adjustment AS "isAdjustment",
               is_outcome_baseline AS "isOutcomeBaseline", reliability, position
          FROM covariate_definition WHERE study_id = $1 ORDER BY position, key`,
       [studyId],
-    ) as Promise<CovariateDto[]>,
-  ]);
+  );
   const design: StudyDesign = {
     id: s.id,
     code: s.code,

@@ -106,7 +106,7 @@ export type EnrolledParticipant = {
 type AuditMode = 'per_participant' | 'batch';
 
 /** Inserts new participant rows with random codes (never derived from personal data), retrying the rare clash. */
-async function insertParticipants(tx: EntityManager, design: StudyDesign, items: ValidEnrollment[]): Promise<string[]> {
+async function insertParticipants(tx: EntityManager, design: StudyDesign, items: ValidEnrollment[], stamps: string[]): Promise<string[]> {
   const ids = new Array<string>(items.length);
   const codes = new Array<string>(items.length);
   let pending = items.map((_, i) => i);
@@ -123,7 +123,7 @@ async function insertParticipants(tx: EntityManager, design: StudyDesign, items:
           design.id,
           chunk.map((i) => items[i]!.siteId),
           chunk.map((i) => codes[i]),
-          chunk.map((i) => enrolledAt(items[i]!)),
+          chunk.map((i) => stamps[i]),
           chunk.map((i) => items[i]!.consent.date),
           chunk.map((i) => items[i]!.consent.version),
           chunk.map((i) => items[i]!.exposureArmId ?? null),
@@ -199,13 +199,14 @@ export async function enrollValidated(
   design: StudyDesign,
   actor: AuditActor,
   items: ValidEnrollment[],
-  opts: { auditMode?: AuditMode; reason?: string; extraAudit?: AuditEntry[] } = {},
+  opts: { auditMode?: AuditMode; reason?: string; extraAudit?: AuditEntry[]; skipJob?: boolean } = {},
 ): Promise<EnrolledParticipant[]> {
   if (items.length === 0) return [];
+  const stamps = items.map(enrolledAt);
   const fresh = items.map((it, i) => ({ it, i })).filter((x) => !x.it.existingParticipantId);
   const idCode = new Array<{ id: string; code: string }>(items.length);
   if (fresh.length) {
-    const made = await insertParticipants(tx, design, fresh.map((x) => x.it));
+    const made = await insertParticipants(tx, design, fresh.map((x) => x.it), fresh.map((x) => stamps[x.i]!));
     made.forEach((v, j) => {
       const [id, code] = v.split('|') as [string, string];
       idCode[fresh[j]!.i] = { id, code };
@@ -218,7 +219,7 @@ export async function enrollValidated(
       `UPDATE participant SET status = 'enrolled', enrolled_at = $3, consent_date = $4, consent_version = $5, exposure_arm_id = $6,
               updated_at = now()
         WHERE id = $1 AND study_id = $2 AND status = 'screened' RETURNING id, code`,
-      [it.existingParticipantId, design.id, enrolledAt(it), it.consent.date, it.consent.version, it.exposureArmId ?? null],
+      [it.existingParticipantId, design.id, stamps[i], it.consent.date, it.consent.version, it.exposureArmId ?? null],
     );
     if (!rows[0]) throw new AppError('conflict', 'This screened participant is already enrolled or not eligible');
     idCode[i] = rows[0];
@@ -235,7 +236,9 @@ export async function enrollValidated(
     );
     await insertAllocations(tx, design, allocations);
   }
-  await ctx.jobs.send(tx, 'balance.recompute', { studyId: design.id, reason: opts.auditMode === 'batch' ? 'participants imported' : 'participant enrolled' }, { singletonKey: design.id });
+  if (!opts.skipJob) {
+    await ctx.jobs.send(tx, 'balance.recompute', { studyId: design.id, reason: opts.auditMode === 'batch' ? 'participants imported' : 'participant enrolled' }, { singletonKey: design.id });
+  }
 
   const armCode = new Map(design.arms.map((a) => [a.id, a.code]));
   const entries: AuditEntry[] = [];
@@ -296,7 +299,7 @@ export async function enrollValidated(
     code: idCode[i]!.code,
     siteId: it.siteId,
     siteCode: it.siteCode,
-    enrolledAt: enrolledAt(it),
+    enrolledAt: stamps[i]!,
     allocation: allocations[i] ?? null,
     exposureArmId: it.exposureArmId ?? null,
   }));

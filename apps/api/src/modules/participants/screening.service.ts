@@ -8,7 +8,7 @@ import { randomCode } from './allocation.service.js';
 import type { Issue } from './enrollment.service.js';
 
 /** Checks each answer's type (and range or level for covariates) before the criteria are evaluated. */
-function checkAnswers(design: StudyDesign, answers: Record<string, unknown>): Issue[] {
+export function checkAnswers(design: StudyDesign, answers: Record<string, unknown>): Issue[] {
   const issues: Issue[] = [];
   const covs = new Map(design.covariates.map((c) => [c.key, c]));
   const questions = new Map(design.screeningQuestions.map((q) => [q.key, q]));

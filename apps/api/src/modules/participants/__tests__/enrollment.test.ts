@@ -37,7 +37,7 @@ describe('POST /studies/:studyId/participants', () => {
     expect(job[0]!.n).toBeGreaterThanOrEqual(1);
   });
 
-  const bad: { name: string; body: (site: string) => unknown; path: string }[] = [
+  const bad: { name: string; body: (site: string) => object; path: string }[] = [
     { name: 'age below the range', body: (s) => enrollBody(s, { baseline: baseline({ age: { value: 17, measuredOn: daysAgo(1) } }) }), path: 'baseline.age.value' },
     { name: 'too many decimals', body: (s) => enrollBody(s, { baseline: baseline({ fev1_pct: { value: 50.25, measuredOn: daysAgo(1) } }) }), path: 'baseline.fev1_pct.value' },
     { name: 'wrong level', body: (s) => enrollBody(s, { baseline: baseline({ sex: { value: 'unknown', measuredOn: daysAgo(1) } }) }), path: 'baseline.sex.value' },
