@@ -176,7 +176,7 @@ function Distribution({
           <span
             aria-hidden="true"
             className="inline-block h-2 rounded-full bg-harbor"
-            style={{ width: `${Math.max(2, (l.percent ?? 0) * 0.8)}px` }}
+            style={{ width: `${Math.max(2, (l.percent ?? 0) * 1.2)}px` }}
           />
           <span className="figure text-ink">
             {l.n} ({formatPercent(l.percent, 1)})

@@ -304,7 +304,9 @@ export function SmdLegend({ threshold, weighted }: { threshold: number; weighted
           className="inline-block h-3.5 w-6"
           style={{ background: chartColors.band }}
         />
-        95% chance band for the current group sizes
+        {weighted
+          ? '95% band randomization alone would give at these group sizes (a yardstick; a cohort is not randomized)'
+          : '95% chance band for the current group sizes'}
       </li>
       <li className="flex items-center gap-2">
         <svg width="24" height="10" aria-hidden="true">

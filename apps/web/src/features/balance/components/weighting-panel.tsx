@@ -28,6 +28,7 @@ function pair(
 export function WeightingPanel({ view, weighting }: { view: BalanceArmsView; weighting: Weighting }) {
   const overlap = pair(view.arms, weighting.propensityOverlap);
   const weights = pair(view.arms, weighting.weightHistogram);
+  const extra = weighting.cautions.filter((c) => c !== balanceCautions.weighting);
   return (
     <Card data-testid="weighting-panel">
       <CardHeader
@@ -37,9 +38,9 @@ export function WeightingPanel({ view, weighting }: { view: BalanceArmsView; wei
       <CardBody className="flex flex-col gap-5">
         <Callout tone="caution" role="note" title="Weighting balances measured covariates only">
           <p data-testid="weighting-caution">{balanceCautions.weighting}</p>
-          {weighting.cautions.length > 0 && (
+          {extra.length > 0 && (
             <ul className="mt-1 list-disc pl-5">
-              {weighting.cautions.map((c) => (
+              {extra.map((c) => (
                 <li key={c}>{c}</li>
               ))}
             </ul>
