@@ -95,6 +95,11 @@ export async function evaluateAlerts(
     ).map((r) => [r.k, r.opening]),
   );
   const covariateKeys = new Set(config.covariates.map((c) => c.key));
+  // One e-mail per drift episode of a covariate at a scope: a second rule starting to hold while
+  // another is live for the same covariate, site and arm is listed in the app but not e-mailed.
+  const scopeKey = (cov: string, site: string | null, arm: string) => `${cov}|${site ?? 'overall'}|${arm}`;
+  const liveScopes = new Set(live.map((a) => scopeKey(a.covariate_key, a.site_id, a.arm_id)));
+  const notify: string[] = [];
   const changes: AlertChanges = { opened: [], cleared: [], updated: 0 };
   const audit: AuditEntry[] = [];
   const figures = (c: ArmComparison) => ({
@@ -124,6 +129,7 @@ export async function evaluateAlerts(
       );
       if (!created) continue;
       changes.opened.push(created.id);
+      if (!liveScopes.has(scopeKey(cd.covariateKey, cd.siteId, cd.armId))) notify.push(created.id);
       audit.push({
         action: 'balance.alert_opened',
         entityType: 'alert',
@@ -153,7 +159,7 @@ export async function evaluateAlerts(
     }
   }
 
-  if (changes.opened.length) {
+  if (notify.length) {
     await tx.query(
       `INSERT INTO alert_notification (alert_id, recipient_user_id, recipient_email, idempotency_key)
        SELECT a.id, u.id, u.email, a.idempotency_key || '|' || u.id
@@ -162,7 +168,7 @@ export async function evaluateAlerts(
          JOIN app_user u ON u.id = m.user_id AND u.status = 'active'
         WHERE a.id = ANY($1::uuid[])
        ON CONFLICT (idempotency_key) DO NOTHING`,
-      [changes.opened],
+      [notify],
     );
   }
   return { changes, audit };
