@@ -46,6 +46,8 @@ const LOCK_CLASS = 7_261_905;
 export type RecomputeHooks = {
   /** Called inside the transaction after the accumulators and the snapshot are written, before alerts (tests). */
   afterSnapshotWrite?: () => Promise<void>;
+  /** Called after the transaction committed, before the e-mails are sent (tests). */
+  beforeMail?: () => Promise<void>;
 };
 
 export type RecomputeResult = {
@@ -78,6 +80,7 @@ export async function recomputeBalance(
     opts.log?.warn({ err, studyId: payload.studyId }, 'balance accumulators out of step; rebuilding from all rows');
     outcome = await runInTransaction(ctx, payload, true, opts);
   }
+  await opts.hooks?.beforeMail?.();
   const config = await loadStudyConfig(ctx.ds, payload.studyId);
   const mailsSent = config ? await sendPendingNotifications(ctx, ctx.ds, config, opts.log) : 0;
   if (!outcome) return null;
