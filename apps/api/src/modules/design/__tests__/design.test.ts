@@ -1,0 +1,125 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestContext, createUser, signIn, type TestContext } from '../../../test/harness.js';
+import { castStudy, counts, enrollBody, trialDesign, type Cast } from '../../participants/__tests__/fixtures.js';
+import { planStrata } from '../strata-planner.js';
+
+let t: TestContext;
+let c: Cast;
+beforeAll(async () => {
+  t = await createTestContext();
+  c = await castStudy(t);
+});
+afterAll(async () => t.close());
+
+describe('POST /studies', () => {
+  it('when a statistician creates a study, then it exists in setup with them as its statistician, audited', async () => {
+    const res = await c.statistician.post('/api/studies').send({ code: 'NEWSTUDY', title: 'A new study', kind: 'randomized_trial', blinding: 'blinded', targetSampleSize: 120 });
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    expect(res.body.study).toMatchObject({ code: 'NEWSTUDY', status: 'setup', myRole: 'statistician', allocation: null });
+    const m = await t.ownerQuery(`SELECT role FROM membership m JOIN study s ON s.id = m.study_id WHERE s.code = 'NEWSTUDY'`);
+    expect(m).toEqual([{ role: 'statistician' }]);
+    const dup = await c.statistician.post('/api/studies').send({ code: 'NEWSTUDY', title: 'Again', kind: 'randomized_trial', blinding: 'blinded', targetSampleSize: 120 });
+    expect(dup.status).toBe(409);
+  });
+
+  it('when a coordinator, sponsor or auditor tries to create a study, then 403 and nothing is written', async () => {
+    const before = await counts(t);
+    for (const who of [c.coordinator, c.sponsor, c.auditor]) {
+      const res = await who.post('/api/studies').send({ code: 'NOPE', title: 'Not allowed', kind: 'randomized_trial', blinding: 'blinded', targetSampleSize: 100 });
+      expect(res.status).toBe(403);
+    }
+    expect(await counts(t)).toEqual(before);
+  });
+});
+
+describe('GET /studies/:studyId', () => {
+  it('shows arm names, seed and block sizes to the statistician only; coordinators and sponsors see the arm count and the method', async () => {
+    const stat = await c.statistician.get(`/api/studies/${c.studyId}`);
+    expect(stat.body.study.arms.map((a: { code: string }) => a.code)).toEqual(['A', 'B']);
+    expect(stat.body.study.allocation).toMatchObject({ method: 'permuted_blocks', blockSizes: [4, 6], algorithm: 'permuted-block' });
+    expect(stat.body.study.allocation.seed).toMatch(/^[0-9a-f]{32}$/);
+    expect(stat.body.study.strataPlan).toMatchObject({ strataCount: 4, maxBlockSize: 6, worstCaseImbalance: 12 });
+    for (const who of [c.coordinator, c.sponsor, c.auditor]) {
+      const res = await who.get(`/api/studies/${c.studyId}`);
+      expect(res.status).toBe(200);
+      expect(res.body.study.arms).toBeNull();
+      expect(res.body.study.armCount).toBe(2);
+      expect(res.body.study.allocation).toEqual({ method: 'permuted_blocks' });
+      expect(JSON.stringify(res.body)).not.toMatch(/Arm A|Arm B|"seed"|blockSizes/);
+    }
+    const admin = await c.admin.get(`/api/studies/${c.studyId}`);
+    expect(admin.body.study.allocation.seed).toBeUndefined();
+    expect(admin.body.study.arms).toBeNull();
+    const coord = await c.coordinator.get(`/api/studies/${c.studyId}`);
+    expect(coord.body.study.sites.map((s: { code: string }) => s.code)).toEqual(['S1']);
+  });
+
+  it('answers 404 to a user who is not a member of the study', async () => {
+    const stranger = await createUser(t);
+    const agent = await signIn(t, stranger.email);
+    expect((await agent.get(`/api/studies/${c.studyId}`)).status).toBe(404);
+  });
+});
+
+describe('PUT /studies/:studyId/design', () => {
+  it('when the design changes after the first enrollment, then a reason is required, the version goes up and before/after are audited', async () => {
+    const cc = await castStudy(t);
+    const enrolled = await cc.coordinator.post(`/api/studies/${cc.studyId}/participants`).send(enrollBody(cc.siteIds[0]!));
+    expect(enrolled.status).toBe(201);
+    const v1 = (await cc.statistician.get(`/api/studies/${cc.studyId}`)).body.study.designVersion;
+    const changed = trialDesign({ targetSampleSize: 500 });
+    const before = await counts(t);
+    const noReason = await cc.statistician.put(`/api/studies/${cc.studyId}/design`).send(changed);
+    expect(noReason.status).toBe(400);
+    expect(noReason.body.error.details.issues[0].path).toEqual(['reason']);
+    expect(await counts(t)).toEqual(before);
+    const ok = await cc.statistician.put(`/api/studies/${cc.studyId}/design`).send({ ...changed, reason: 'Sample size re-estimated per protocol amendment 2' });
+    expect(ok.status, JSON.stringify(ok.body)).toBe(200);
+    expect(ok.body.study).toMatchObject({ designVersion: v1 + 1, targetSampleSize: 500 });
+    const audit = await t.ownerQuery<{ before: { targetSampleSize: number }; after: { targetSampleSize: number; seedFingerprint: string }; reason: string }>(
+      `SELECT before, after, reason FROM audit_event WHERE action = 'study.design_saved' AND study_id = $1 ORDER BY seq DESC LIMIT 1`,
+      [cc.studyId],
+    );
+    expect(audit[0]!.before.targetSampleSize).toBe(400);
+    expect(audit[0]!.after.targetSampleSize).toBe(500);
+    expect(audit[0]!.reason).toBe('Sample size re-estimated per protocol amendment 2');
+    expect(JSON.stringify(audit[0])).not.toContain(ok.body.study.allocation.seed);
+  });
+
+  it.each([
+    { name: 'the allocation scheme', change: { allocation: { method: 'permuted_blocks', blockSizes: [4], stratifyBySite: true } } },
+    { name: 'an arm ratio', change: { arms: [{ code: 'A', name: 'Arm A', ratio: 2 }, { code: 'B', name: 'Arm B', ratio: 1 }], allocation: { method: 'permuted_blocks', blockSizes: [3, 6], stratifyBySite: true } } },
+    { name: 'removing a covariate with values', change: { covariates: trialDesign().covariates.filter((x) => x.key !== 'smoker') } },
+  ])('when $name would change after enrollment, then 409 and nothing is written', async ({ change }) => {
+    const cc = await castStudy(t);
+    await cc.coordinator.post(`/api/studies/${cc.studyId}/participants`).send(enrollBody(cc.siteIds[0]!));
+    const before = await counts(t);
+    const res = await cc.statistician.put(`/api/studies/${cc.studyId}/design`).send({ ...trialDesign(change as never), reason: 'Trying a change that is locked' });
+    expect(res.status, JSON.stringify(res.body)).toBe(409);
+    expect(await counts(t)).toEqual(before);
+  });
+
+  it('when a cohort is given a randomization scheme, then 400', async () => {
+    const res = await c.statistician.put(`/api/studies/${c.studyId}/design`).send(trialDesign({ allocation: { method: 'exposure_recorded', weighting: { estimand: 'ATE' } } }));
+    expect(res.status).toBe(400);
+  });
+});
+
+describe('strata planner (Hallstrom & Davis 1988: imbalance at most K*B/2)', () => {
+  const covs = [
+    { key: 'sex', kind: 'categorical', levels: ['f', 'm'], isStratification: true },
+    { key: 'smoking', kind: 'categorical', levels: ['never', 'former', 'current'], isStratification: true },
+    { key: 'copd', kind: 'binary', isStratification: true },
+  ];
+  it('computes K = product of levels (x sites) and the bound K*B/2', () => {
+    const p = planStrata({ targetSampleSize: 400, siteCount: 6, covariates: covs.slice(0, 1), allocation: { method: 'permuted_blocks', blockSizes: [4, 6], stratifyBySite: true } })!;
+    expect(p).toMatchObject({ strataCount: 12, maxBlockSize: 6, worstCaseImbalance: 36, perStratumAtTarget: 33.3 });
+    expect(p.warnings).toEqual([]);
+  });
+  it('warns when the bound approaches the target, when strata are sparser than a block, and beyond three factors', () => {
+    const p = planStrata({ targetSampleSize: 200, siteCount: 6, covariates: covs, allocation: { method: 'permuted_blocks', blockSizes: [4, 6], stratifyBySite: true } })!;
+    expect(p.strataCount).toBe(72);
+    expect(p.worstCaseImbalance).toBe(216);
+    expect(p.warnings.map((w) => w.code)).toEqual(['imbalance_bound', 'sparse_strata', 'many_factors']);
+  });
+});
