@@ -86,24 +86,30 @@ describe('balance dashboard of the demo trial', () => {
     await page.getByRole('link', { name: 'Alerts', exact: true }).click();
     await page.waitForURL(/\/alerts$/);
     expect(await page.getByTestId('alert-caution').textContent()).toContain('pre-specified analysis stands');
-    const open = page.locator('[data-testid="alert-card"][data-state="open"]').first();
+    const open = page.locator('[data-testid="alert-row"][data-state="open"]').first();
     await open.waitFor();
-    const covariate = (await open.locator('h3').textContent()) ?? '';
-    expect(await open.textContent()).toMatch(/95% chance band/i);
+    const alertId = await open.getAttribute('data-alert-id');
+    expect(alertId).toMatch(/^[0-9a-f-]{36}$/);
+    // Every open alert shows its chance band (a ± figure) next to its SMD.
+    expect(await open.textContent()).toMatch(/±\d\.\d{3}/);
     await screenshot(page, 'balance-alerts-open');
 
-    const comment = 'Checked: one small site, within what chance gives across all covariates; pre-specified model unchanged.';
-    await open.getByRole('button', { name: 'Acknowledge with a comment' }).click();
-    await open.getByLabel(/Comment/).fill(comment);
-    await open.getByRole('button', { name: 'Acknowledge', exact: true }).click();
+    const comment = 'Checked: within what chance gives across all covariates at this size; pre-specified model unchanged.';
+    await open.getByRole('button', { name: /^Acknowledge/ }).click();
+    const form = page.locator(`#ack-${alertId}`);
+    await form.getByLabel(/Comment/).fill(comment);
+    await form.getByRole('button', { name: 'Acknowledge', exact: true }).click();
+    await page.getByRole('status').filter({ hasText: 'Acknowledged:' }).waitFor();
 
-    const acknowledged = page
-      .locator('[data-testid="alert-card"][data-state="acknowledged"]')
-      .filter({ hasText: covariate.trim().slice(0, 20) })
-      .filter({ hasText: comment });
-    await acknowledged.waitFor();
-    expect(await acknowledged.getByTestId('alert-comment').textContent()).toBe(comment);
-    expect(await acknowledged.textContent()).toContain(STATISTICIAN);
+    // It has left the open list and shows, with its comment and who wrote it, under Acknowledged.
+    expect(await page.locator(`[data-testid="alert-row"][data-alert-id="${alertId}"]`).count()).toBe(0);
+    await page.getByRole('button', { name: /^Acknowledged/ }).click();
+    const row = page.locator(`[data-testid="alert-row"][data-alert-id="${alertId}"]`);
+    await row.waitFor();
+    expect(await row.getAttribute('data-state')).toBe('acknowledged');
+    const commentRow = page.locator(`[data-testid="alert-comment-row"][data-alert-id="${alertId}"]`);
+    expect(await commentRow.getByTestId('alert-comment').textContent()).toBe(comment);
+    expect(await commentRow.textContent()).toContain(STATISTICIAN);
     await screenshot(page, 'balance-alert-acknowledged');
     await context.close();
   });
