@@ -52,7 +52,7 @@ const cases: RoleCase[] = [
   {
     role: 'auditor',
     topNav: ['Studies', 'Audit trail'],
-    studyTabs: ['Overview', 'Audit'],
+    studyTabs: ['Overview', 'Participants', 'Audit'],
     mayManageUsers: false,
   },
 ];

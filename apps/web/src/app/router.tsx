@@ -15,8 +15,12 @@ import { StudyAlertsRoute } from './routes/study/study-alerts.js';
 import { StudyAuditRoute } from './routes/study/study-audit.js';
 import { StudyBalanceRoute } from './routes/study/study-balance.js';
 import { StudyDesignRoute } from './routes/study/study-design.js';
+import { StudyEnrollRoute } from './routes/study/study-enroll.js';
+import { StudyImportRoute } from './routes/study/study-import.js';
 import { StudyLayout } from './routes/study/study-layout.js';
 import { StudyOverviewRoute } from './routes/study/study-overview.js';
+import { StudyParticipantRoute } from './routes/study/study-participant.js';
+import { StudyParticipantsRoute } from './routes/study/study-participants.js';
 import { StudySectionPlaceholder } from './routes/study/study-section-placeholder.js';
 
 /*
@@ -42,7 +46,10 @@ export const router = createBrowserRouter([
             element: <StudyLayout />,
             children: [
               { index: true, element: <StudyOverviewRoute /> },
-              { path: 'participants', element: <StudySectionPlaceholder tab="participants" /> },
+              { path: 'participants', element: <StudyParticipantsRoute /> },
+              { path: paths.participants.enroll.path, element: <StudyEnrollRoute /> },
+              { path: paths.participants.import.path, element: <StudyImportRoute /> },
+              { path: paths.participants.detail.path, element: <StudyParticipantRoute /> },
               { path: 'balance', element: <StudyBalanceRoute /> },
               { path: 'alerts', element: <StudyAlertsRoute /> },
               { path: 'analysis', element: <StudySectionPlaceholder tab="analysis" /> },

@@ -25,6 +25,21 @@ export const paths = {
           : `/studies/${encodeURIComponent(studyId)}/${tab}`,
     },
   },
+  participants: {
+    enroll: {
+      path: 'participants/enroll',
+      href: (studyId: string) => `/studies/${encodeURIComponent(studyId)}/participants/enroll`,
+    },
+    import: {
+      path: 'participants/import',
+      href: (studyId: string) => `/studies/${encodeURIComponent(studyId)}/participants/import`,
+    },
+    detail: {
+      path: 'participants/:participantId',
+      href: (studyId: string, participantId: string) =>
+        `/studies/${encodeURIComponent(studyId)}/participants/${encodeURIComponent(participantId)}`,
+    },
+  },
   audit: { path: '/audit', href: () => '/audit' },
   admin: {
     users: { path: '/admin/users', href: () => '/admin/users' },

@@ -47,7 +47,7 @@ describe('studyTabsFor', () => {
       ['overview', 'participants', 'balance', 'alerts', 'analysis', 'design', 'audit'],
     ],
     ['sponsor', me({ memberships: [membership(studyA, 'sponsor')] }), ['overview']],
-    ['auditor', me({ memberships: [membership(studyA, 'auditor')] }), ['overview', 'audit']],
+    ['auditor', me({ memberships: [membership(studyA, 'auditor')] }), ['overview', 'participants', 'audit']],
     ['admin', me({ isAdmin: true }), ['overview', 'design']],
   ] as const)(
     'when the user is %s of the study, then the tabs are exactly the allowed set',

@@ -43,7 +43,7 @@ export const studyTabOrder: readonly StudyTab[] = [
 // Sponsors are blinded: pooled overview only. Coordinators see their own site's participants.
 const studyTabRoles: Record<StudyTab, readonly Role[]> = {
   overview: ['admin', 'coordinator', 'statistician', 'sponsor', 'auditor'],
-  participants: ['coordinator', 'statistician'],
+  participants: ['coordinator', 'statistician', 'auditor'],
   balance: ['statistician'],
   alerts: ['statistician'],
   analysis: ['statistician'],

@@ -22,7 +22,8 @@ function errorFrom(status: number, text: string): ApiError {
     const { code, message, details } = parsed.data.error;
     return new ApiError(status, code, message, details);
   }
-  if (status === 413) return new ApiError(status, 'payload_too_large', 'The file is larger than the server accepts.');
+  if (status === 413)
+    return new ApiError(status, 'payload_too_large', 'The file is larger than the server accepts.');
   return new ApiError(
     status,
     status >= 500 || status === 0 ? 'internal' : 'unknown',
@@ -55,7 +56,9 @@ export function uploadForm<S extends z.ZodType>(
       options.onProgress?.({ loaded: event.loaded, total: event.lengthComputable ? event.total : null });
     };
     xhr.onerror = () =>
-      reject(new ApiError(0, 'network', 'The server could not be reached. Check your connection and try again.'));
+      reject(
+        new ApiError(0, 'network', 'The server could not be reached. Check your connection and try again.'),
+      );
     xhr.onabort = () => reject(new DOMException('The upload was cancelled.', 'AbortError'));
     xhr.onload = () => {
       if (xhr.status < 200 || xhr.status >= 300) {
@@ -66,15 +69,26 @@ export function uploadForm<S extends z.ZodType>(
       try {
         json = JSON.parse(xhr.responseText);
       } catch {
-        reject(new ApiError(xhr.status, 'bad_response', 'The server sent a response this page does not understand.'));
+        reject(
+          new ApiError(
+            xhr.status,
+            'bad_response',
+            'The server sent a response this page does not understand.',
+          ),
+        );
         return;
       }
       const parsed = schema.safeParse(json);
       if (!parsed.success) {
         reject(
-          new ApiError(xhr.status, 'bad_response', 'The server sent a response this page does not understand.', {
-            issues: parsed.error.issues,
-          }),
+          new ApiError(
+            xhr.status,
+            'bad_response',
+            'The server sent a response this page does not understand.',
+            {
+              issues: parsed.error.issues,
+            },
+          ),
         );
         return;
       }

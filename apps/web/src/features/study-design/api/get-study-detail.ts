@@ -1,12 +1,18 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import { studyDetailSchema, type StudyDetail } from '@counterpoise/contracts/design';
+import { designSaveResponseSchema, type StudyDetail } from '@counterpoise/contracts/design';
 import { api } from '../../../lib/api-client.js';
 
 export const studyDetailQueryKey = (studyId: string) => ['studies', studyId, 'detail'] as const;
 
 /** The study with its design, as the caller's role may see it (arms are null for blinded roles). */
 export async function getStudyDetail(studyId: string, signal?: AbortSignal): Promise<StudyDetail> {
-  return api.get(`/studies/${encodeURIComponent(studyId)}`, studyDetailSchema, signal);
+  // Same `{ study }` envelope as the design save answers.
+  const { study } = await api.get(
+    `/studies/${encodeURIComponent(studyId)}`,
+    designSaveResponseSchema,
+    signal,
+  );
+  return study;
 }
 
 export const studyDetailQueryOptions = (studyId: string) =>

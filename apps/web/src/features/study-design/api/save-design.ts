@@ -3,8 +3,19 @@ import { designSaveResponseSchema, type DesignBody, type StudyDetail } from '@co
 import { api } from '../../../lib/api-client.js';
 import { studyDetailQueryKey } from './get-study-detail.js';
 
-export async function saveDesign({ studyId, body }: { studyId: string; body: DesignBody }): Promise<StudyDetail> {
-  const { study } = await api.send('PUT', `/studies/${encodeURIComponent(studyId)}/design`, body, designSaveResponseSchema);
+export async function saveDesign({
+  studyId,
+  body,
+}: {
+  studyId: string;
+  body: DesignBody;
+}): Promise<StudyDetail> {
+  const { study } = await api.send(
+    'PUT',
+    `/studies/${encodeURIComponent(studyId)}/design`,
+    body,
+    designSaveResponseSchema,
+  );
   return study;
 }
 

@@ -31,7 +31,14 @@ function RadioOption({
   const id = `allocation-method-${value}`;
   return (
     <div className="flex items-start gap-2.5">
-      <input id={id} type="radio" value={value} className="mt-1 size-4 accent-spruce" aria-describedby={`${id}-hint`} {...rest} />
+      <input
+        id={id}
+        type="radio"
+        value={value}
+        className="mt-1 size-4 accent-spruce"
+        aria-describedby={`${id}-hint`}
+        {...rest}
+      />
       <div>
         <label htmlFor={id} className="text-sm font-semibold text-ink">
           {label}
@@ -200,7 +207,9 @@ export function AllocationFields({ study }: { study: StudyDetail }) {
               <dd className="figure">{study.allocation.algorithmVersion ?? '—'}</dd>
             </div>
             <div>
-              <dt className="text-xs font-semibold text-graphite uppercase">Seed (stored, for reproduction)</dt>
+              <dt className="text-xs font-semibold text-graphite uppercase">
+                Seed (stored, for reproduction)
+              </dt>
               <dd className="figure break-all">{study.allocation.seed}</dd>
             </div>
           </dl>
@@ -246,8 +255,8 @@ export function StrataPlanPanel({ study }: { study: StudyDetail }) {
               </div>
             </dl>
             <p className="text-sm text-graphite">
-              Factors: {plan.stratificationFactors.length ? plan.stratificationFactors.join(', ') : 'none'} (saved
-              design).
+              Factors: {plan.stratificationFactors.length ? plan.stratificationFactors.join(', ') : 'none'}{' '}
+              (saved design).
             </p>
             {plan.warnings.map((w) => (
               <Callout key={w.code} tone="caution" role="note">
@@ -265,9 +274,9 @@ export function StrataPlanPanel({ study }: { study: StudyDetail }) {
           <p className="text-sm text-graphite" aria-live="polite">
             With your unsaved changes: <span className="figure">{preview.strata}</span> strata × block size{' '}
             <span className="figure">{preview.maxBlock}</span> / 2 ={' '}
-            <span className="figure font-semibold text-ink">{preview.bound}</span> participants of possible imbalance,
-            against a target of <span className="figure">{draft.targetSampleSize}</span>. The server re-checks this when
-            you save.
+            <span className="figure font-semibold text-ink">{preview.bound}</span> participants of possible
+            imbalance, against a target of <span className="figure">{draft.targetSampleSize}</span>. The
+            server re-checks this when you save.
           </p>
         )}
       </CardBody>

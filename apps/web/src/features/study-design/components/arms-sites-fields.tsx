@@ -34,8 +34,8 @@ export function ArmsFields({ hidden }: { hidden: boolean }) {
       <CardBody className="flex flex-col gap-3">
         {hidden ? (
           <p className="text-sm text-graphite">
-            Arm names are hidden from your role in this blinded study. The unblinded statistician edits arms and the
-            allocation scheme.
+            Arm names are hidden from your role in this blinded study. The unblinded statistician edits arms
+            and the allocation scheme.
           </p>
         ) : (
           <>
@@ -49,7 +49,11 @@ export function ArmsFields({ hidden }: { hidden: boolean }) {
                   className="figure uppercase"
                   {...register(`arms.${i}.code`)}
                 />
-                <TextField label="Name" error={errors.arms?.[i]?.name?.message} {...register(`arms.${i}.name`)} />
+                <TextField
+                  label="Name"
+                  error={errors.arms?.[i]?.name?.message}
+                  {...register(`arms.${i}.name`)}
+                />
                 <TextField
                   label="Ratio"
                   type="number"
@@ -112,7 +116,11 @@ export function SitesFields() {
               error={errors.sites?.[i]?.code?.message}
               {...register(`sites.${i}.code`)}
             />
-            <TextField label="Name" error={errors.sites?.[i]?.name?.message} {...register(`sites.${i}.name`)} />
+            <TextField
+              label="Name"
+              error={errors.sites?.[i]?.name?.message}
+              {...register(`sites.${i}.name`)}
+            />
             <TextField
               label="Target"
               type="number"

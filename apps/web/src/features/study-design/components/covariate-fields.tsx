@@ -107,8 +107,14 @@ function CovariateRow({ index, onRemove }: { index: number; onRemove: () => void
           hint={kind === 'continuous' ? 'Only binary or categorical covariates can stratify.' : undefined}
           {...register(`covariates.${index}.isStratification`)}
         />
-        <CheckboxField label="Pre-specified adjustment covariate" {...register(`covariates.${index}.isAdjustment`)} />
-        <CheckboxField label="Baseline value of the outcome" {...register(`covariates.${index}.isOutcomeBaseline`)} />
+        <CheckboxField
+          label="Pre-specified adjustment covariate"
+          {...register(`covariates.${index}.isAdjustment`)}
+        />
+        <CheckboxField
+          label="Baseline value of the outcome"
+          {...register(`covariates.${index}.isOutcomeBaseline`)}
+        />
       </div>
       {(e?.isStratification?.message || e?.required?.message) && (
         <p role="alert" className="text-sm font-medium text-brick">
@@ -146,12 +152,14 @@ export function CovariatesFields({ enrolled }: { enrolled: number }) {
       <CardBody className="flex flex-col gap-4">
         {enrolled > 0 && (
           <p className="text-sm text-graphite">
-            <Badge tone="ochre">Caution</Badge> Covariates for adjustment are pre-specified before unblinding. An
-            observed imbalance is not a reason to add one now (ICH E9 5.7; EMA 2015).
+            <Badge tone="ochre">Caution</Badge> Covariates for adjustment are pre-specified before unblinding.
+            An observed imbalance is not a reason to add one now (ICH E9 5.7; EMA 2015).
           </p>
         )}
         <ListError node={errors.covariates} />
-        {covariates.fields.length === 0 && <p className="text-sm text-graphite">No covariates defined yet.</p>}
+        {covariates.fields.length === 0 && (
+          <p className="text-sm text-graphite">No covariates defined yet.</p>
+        )}
         {covariates.fields.map((field, i) => (
           <CovariateRow key={field.id} index={i} onRemove={() => covariates.remove(i)} />
         ))}

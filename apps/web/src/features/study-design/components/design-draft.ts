@@ -16,7 +16,12 @@ import {
 export type CovariateKind = 'continuous' | 'binary' | 'categorical';
 
 export type ArmDraft = { code: string; name: string; ratio: number };
-export type SiteDraft = { code: string; name: string; enrollmentTarget: number; status: 'active' | 'paused' | 'closed' };
+export type SiteDraft = {
+  code: string;
+  name: string;
+  enrollmentTarget: number;
+  status: 'active' | 'paused' | 'closed';
+};
 export type CovariateDraft = {
   key: string;
   label: string;
@@ -36,7 +41,12 @@ export type CovariateDraft = {
   /** One level per line. */
   levels: string;
 };
-export type QuestionDraft = { key: string; label: string; kind: 'binary' | 'number' | 'choice'; levels: string };
+export type QuestionDraft = {
+  key: string;
+  label: string;
+  kind: 'binary' | 'number' | 'choice';
+  levels: string;
+};
 export type CriterionDraft = {
   id: string;
   kind: 'inclusion' | 'exclusion';
@@ -177,7 +187,9 @@ export function draftFromStudy(study: StudyDetail): DesignDraft {
 /** What kind of answer a criterion's field takes, from the covariate or screening question it names. */
 export type FieldKind = 'number' | 'yesno' | 'choice' | 'unknown';
 
-export function fieldKinds(draft: Pick<DesignDraft, 'covariates' | 'screeningQuestions'>): Map<string, FieldKind> {
+export function fieldKinds(
+  draft: Pick<DesignDraft, 'covariates' | 'screeningQuestions'>,
+): Map<string, FieldKind> {
   const map = new Map<string, FieldKind>();
   for (const c of draft.covariates) {
     map.set(c.key, c.kind === 'continuous' ? 'number' : c.kind === 'binary' ? 'yesno' : 'choice');
@@ -188,7 +200,11 @@ export function fieldKinds(draft: Pick<DesignDraft, 'covariates' | 'screeningQue
   return map;
 }
 
-function criterionValue(text: string, op: CriterionDraft['op'], kind: FieldKind): EligibilityCriterion['value'] {
+function criterionValue(
+  text: string,
+  op: CriterionDraft['op'],
+  kind: FieldKind,
+): EligibilityCriterion['value'] {
   const one = (t: string): number | string | boolean => {
     if (kind === 'number') return toNumber(t);
     if (kind === 'yesno') {
@@ -213,7 +229,11 @@ export function bodyFromDraft(d: DesignDraft, withReason: boolean): unknown {
   const a = d.allocation;
   const allocation =
     a.method === 'permuted_blocks'
-      ? { method: a.method, blockSizes: commaList(a.blockSizes).map(Number), stratifyBySite: a.stratifyBySite }
+      ? {
+          method: a.method,
+          blockSizes: commaList(a.blockSizes).map(Number),
+          stratifyBySite: a.stratifyBySite,
+        }
       : a.method === 'minimization'
         ? {
             method: a.method,
@@ -240,7 +260,14 @@ export function bodyFromDraft(d: DesignDraft, withReason: boolean): unknown {
         reliability: c.reliability.trim() === '' ? null : toNumber(c.reliability),
       };
       if (c.kind === 'continuous') {
-        return { ...common, kind: c.kind, unit: c.unit, min: toNumber(c.min), max: toNumber(c.max), decimals: c.decimals };
+        return {
+          ...common,
+          kind: c.kind,
+          unit: c.unit,
+          min: toNumber(c.min),
+          max: toNumber(c.max),
+          decimals: c.decimals,
+        };
       }
       if (c.kind === 'binary') return { ...common, kind: c.kind };
       return { ...common, kind: c.kind, levels: lines(c.levels) };
@@ -267,7 +294,9 @@ export function bodyFromDraft(d: DesignDraft, withReason: boolean): unknown {
 /** Draft in, API body out; zod issues carry body paths, which are also the draft's field names. */
 export function designDraftSchema(withReason: boolean) {
   const body = withReason
-    ? designBodySchema.and(z.object({ reason: z.string().trim().min(3, 'Give a reason of at least 3 characters') }))
+    ? designBodySchema.and(
+        z.object({ reason: z.string().trim().min(3, 'Give a reason of at least 3 characters') }),
+      )
     : designBodySchema;
   return z
     .custom<DesignDraft>()
@@ -276,11 +305,19 @@ export function designDraftSchema(withReason: boolean) {
 }
 
 /** Friendlier words for zod's default messages (schema-specific messages win over these). */
-export const plainErrors = (issue: { code: string; expected?: string; input?: unknown; minimum?: unknown; maximum?: unknown }) => {
+export const plainErrors = (issue: {
+  code: string;
+  expected?: string;
+  input?: unknown;
+  minimum?: unknown;
+  maximum?: unknown;
+}) => {
   if (issue.code === 'invalid_type' && issue.expected === 'number') return 'Enter a number';
   if (issue.code === 'invalid_type') return 'Required';
-  if (issue.code === 'too_small' && typeof issue.input === 'number') return `Must be at least ${String(issue.minimum)}`;
-  if (issue.code === 'too_big' && typeof issue.input === 'number') return `Must be at most ${String(issue.maximum)}`;
+  if (issue.code === 'too_small' && typeof issue.input === 'number')
+    return `Must be at least ${String(issue.minimum)}`;
+  if (issue.code === 'too_big' && typeof issue.input === 'number')
+    return `Must be at most ${String(issue.maximum)}`;
   if (issue.code === 'too_small' && typeof issue.input === 'string') return 'Required';
   if (issue.code === 'invalid_format') return 'Use only the allowed characters';
   return undefined;
@@ -289,7 +326,9 @@ export const plainErrors = (issue: { code: string; expected?: string; input?: un
 /** The strata planner's arithmetic on the unsaved draft (the API's plan is the one stored). */
 export function draftStrata(d: DesignDraft): { strata: number; maxBlock: number; bound: number } | null {
   if (d.allocation.method !== 'permuted_blocks') return null;
-  const sizes = commaList(d.allocation.blockSizes).map(Number).filter((n) => Number.isFinite(n) && n > 0);
+  const sizes = commaList(d.allocation.blockSizes)
+    .map(Number)
+    .filter((n) => Number.isFinite(n) && n > 0);
   if (sizes.length === 0) return null;
   let strata = 1;
   for (const c of d.covariates) {

@@ -17,7 +17,16 @@ import { designDraftSchema, draftFromStudy, plainErrors, type DesignDraft } from
 import { EligibilityFields } from './eligibility-fields.js';
 import { messagesUnder } from './form-messages.js';
 
-const topFields = ['targetSampleSize', 'arms', 'sites', 'covariates', 'screeningQuestions', 'eligibility', 'allocation', 'reason'];
+const topFields = [
+  'targetSampleSize',
+  'arms',
+  'sites',
+  'covariates',
+  'screeningQuestions',
+  'eligibility',
+  'allocation',
+  'reason',
+];
 
 /**
  * The statistician's design page. Saving writes a new design version; once anyone is
@@ -98,8 +107,8 @@ export function DesignEditor({ study }: { study: StudyDetail }) {
             />
             {needsReason && (
               <Callout tone="caution" role="note" title="Participants are already enrolled">
-                Changes after the first enrollment are versioned and audited, and need a reason. Allocation already
-                given is never changed.
+                Changes after the first enrollment are versioned and audited, and need a reason. Allocation
+                already given is never changed.
               </Callout>
             )}
           </CardBody>
@@ -134,8 +143,8 @@ export function DesignEditor({ study }: { study: StudyDetail }) {
             </div>
             {armsHidden && (
               <Callout tone="info">
-                Your role cannot see the arms of this blinded study, so it cannot save the design. Ask the study’s
-                statistician.
+                Your role cannot see the arms of this blinded study, so it cannot save the design. Ask the
+                study’s statistician.
               </Callout>
             )}
             <div className="flex flex-wrap gap-2">

@@ -15,7 +15,12 @@ const opLabels: Record<DesignDraft['eligibility'][number]['op'], string> = {
   in: 'is one of',
 };
 
-const valueHint = { number: 'A number', yesno: 'yes or no', choice: 'One of the levels', unknown: undefined } as const;
+const valueHint = {
+  number: 'A number',
+  yesno: 'yes or no',
+  choice: 'One of the levels',
+  unknown: undefined,
+} as const;
 
 export function EligibilityFields() {
   const {
@@ -29,8 +34,12 @@ export function EligibilityFields() {
   const rows = useWatch({ control, name: 'eligibility' });
   const kinds = fieldKinds({ covariates: covariates ?? [], screeningQuestions: questions ?? [] });
   const fieldOptions = [
-    ...(covariates ?? []).filter((c) => c.key).map((c) => ({ key: c.key, label: c.label || c.key, group: 'Covariate' })),
-    ...(questions ?? []).filter((q) => q.key).map((q) => ({ key: q.key, label: q.label || q.key, group: 'Question' })),
+    ...(covariates ?? [])
+      .filter((c) => c.key)
+      .map((c) => ({ key: c.key, label: c.label || c.key, group: 'Covariate' })),
+    ...(questions ?? [])
+      .filter((q) => q.key)
+      .map((q) => ({ key: q.key, label: q.label || q.key, group: 'Question' })),
   ];
 
   return (
@@ -39,21 +48,35 @@ export function EligibilityFields() {
         title="Eligibility criteria"
         description="Evaluated at screening. An inclusion rule must hold; an exclusion rule excludes when it holds. A missing answer fails the rule."
         actions={
-          <Button variant="secondary" size="sm" onClick={() => criteria.append(newCriterion(criteria.fields.length))}>
+          <Button
+            variant="secondary"
+            size="sm"
+            onClick={() => criteria.append(newCriterion(criteria.fields.length))}
+          >
             Add criterion
           </Button>
         }
       />
       <CardBody className="flex flex-col gap-3">
-        {criteria.fields.length === 0 && <p className="text-sm text-graphite">No criteria: everyone screened is eligible.</p>}
+        {criteria.fields.length === 0 && (
+          <p className="text-sm text-graphite">No criteria: everyone screened is eligible.</p>
+        )}
         {criteria.fields.map((field, i) => {
           const row = rows?.[i];
           const kind = (row && kinds.get(row.field)) ?? 'unknown';
           const e = errors.eligibility?.[i];
           return (
-            <fieldset key={field.id} className="grid items-start gap-3 rounded-card border border-rule p-3 sm:grid-cols-6">
+            <fieldset
+              key={field.id}
+              className="grid items-start gap-3 rounded-card border border-rule p-3 sm:grid-cols-6"
+            >
               <legend className="px-1 text-sm font-semibold text-ink">Criterion {i + 1}</legend>
-              <TextField label="Id" className="figure" error={e?.id?.message} {...register(`eligibility.${i}.id`)} />
+              <TextField
+                label="Id"
+                className="figure"
+                error={e?.id?.message}
+                {...register(`eligibility.${i}.id`)}
+              />
               <SelectField label="Type" {...register(`eligibility.${i}.kind`)}>
                 <option value="inclusion">Inclusion</option>
                 <option value="exclusion">Exclusion</option>

@@ -2,7 +2,8 @@
 export function ListError({ node }: { node: unknown }) {
   if (!node || typeof node !== 'object') return null;
   const { root, message } = node as { root?: { message?: unknown }; message?: unknown };
-  const text = typeof root?.message === 'string' ? root.message : typeof message === 'string' ? message : null;
+  const text =
+    typeof root?.message === 'string' ? root.message : typeof message === 'string' ? message : null;
   if (!text) return null;
   return (
     <p role="alert" className="text-sm font-medium text-brick">
