@@ -8,15 +8,25 @@
  *
  * add (West, CACM 1979;22:532, weighted form of Welford 1962):
  *   W' = W + w;  delta = x - mean;  mean' = mean + delta w / W';  M2' = M2 + w delta (x - mean')
- * remove: the exact algebraic inverse of add (recover the old mean, subtract the same term).
- *   Removing a value that was never added cannot be detected; removing most of the data from a
- *   large spread loses relative precision (cancellation), as with any downdate.
+ * remove: the exact algebraic inverse of add, mean_old = mean - w (x - mean) / (W - w),
+ *   M2_old = M2 - w (x - mean_old)(x - mean). Removing a value that was never added cannot be
+ *   detected; removing most of the data from a large spread loses relative precision
+ *   (cancellation), as with any downdate.
  * merge (Chan, Golub & LeVeque, 1979 technical report / Am Stat 1983;37:242):
  *   W = Wa + Wb;  delta = mean_b - mean_a;  mean = mean_a + delta Wb / W;
  *   M2 = M2a + M2b + delta^2 Wa Wb / W
  *
+ * Numerics: the moments are kept about a shift K (the first value added), i.e. on x - K, which
+ * is exact for values near K (Sterbenz). Without it, values like 1e9 + N(0, 1) lose most of
+ * their variance digits to the rounding of the running mean (and a first weighted add from
+ * mean 0 could leave M2 of order w |x| ulp(x), even negative). The first add sets the mean
+ * exactly and M2 = 0.
+ *
  * State is plain JSON numbers (`toJSON()`, `MomentAccumulator.fromState()`), suitable for a
- * jsonb column; doubles survive JSON.stringify/parse exactly.
+ * jsonb column; doubles survive JSON.stringify/parse exactly. `mean` in the state is the
+ * mean itself; the optional `shift` and `shiftedMean` (mean - shift, kept exactly) restore the
+ * internal shift; a state without them (e.g. built from SQL aggregates) takes its mean as the
+ * shift.
  *
  * @throws {RangeError} add/remove with a non-finite value or a weight that is not finite and > 0;
  *   remove from an empty accumulator or of more weight than it holds; reading `mean` when empty or
@@ -35,6 +45,10 @@ export type AccumulatorState = {
   sumSquaredWeights: number;
   mean: number;
   m2: number;
+  /** Internal shift K (optional; see above). */
+  shift?: number;
+  /** mean - K, exactly as held (optional; used only together with `shift`). */
+  shiftedMean?: number;
 };
 
 const FN = 'accumulator';
@@ -43,8 +57,10 @@ export class MomentAccumulator {
   #n = 0;
   #w = 0;
   #w2 = 0;
+  /** Mean of x - K (see the doc block). */
   #mean = 0;
   #m2 = 0;
+  #shift = 0;
 
   /** Number of values currently held (adds minus removes). */
   get n(): number {
@@ -63,7 +79,7 @@ export class MomentAccumulator {
 
   get mean(): number {
     if (this.#n === 0) throw new RangeError(`${FN}: mean is undefined for an empty accumulator`);
-    return this.#mean;
+    return this.#shift + this.#mean;
   }
 
   /** Austin & Stuart weighted variance; equals the n - 1 sample variance with unit weights. */
@@ -86,10 +102,20 @@ export class MomentAccumulator {
     if (!(w > 0) || w === Number.POSITIVE_INFINITY) {
       throw new RangeError(`${FN}.add: w must be a finite number greater than 0, got ${String(w)}`);
     }
+    if (this.#n === 0) {
+      this.#shift = x;
+      this.#mean = 0;
+      this.#m2 = 0;
+      this.#w = w;
+      this.#w2 = w * w;
+      this.#n = 1;
+      return this;
+    }
+    const xs = x - this.#shift;
     const W = this.#w + w;
-    const delta = x - this.#mean;
+    const delta = xs - this.#mean;
     const mean = this.#mean + (delta * w) / W;
-    this.#m2 += w * delta * (x - mean);
+    this.#m2 += w * delta * (xs - mean);
     this.#mean = mean;
     this.#w = W;
     this.#w2 += w * w;
@@ -114,8 +140,9 @@ export class MomentAccumulator {
     if (!(W > 1e-12 * this.#w)) {
       throw new RangeError(`${FN}.remove: w = ${w} is not less than the total weight ${this.#w} of ${this.#n} values`);
     }
-    const meanOld = (this.#w * this.#mean - w * x) / W;
-    const m2 = this.#m2 - w * (x - meanOld) * (x - this.#mean);
+    const xs = x - this.#shift;
+    const meanOld = this.#mean - (w * (xs - this.#mean)) / W;
+    const m2 = this.#m2 - w * (xs - meanOld) * (xs - this.#mean);
     this.#m2 = m2 > 0 ? m2 : 0; // rounding can leave a tiny negative value
     this.#mean = meanOld;
     this.#w = W;
@@ -136,10 +163,12 @@ export class MomentAccumulator {
       this.#w2 = other.#w2;
       this.#mean = other.#mean;
       this.#m2 = other.#m2;
+      this.#shift = other.#shift;
       return this;
     }
     const W = this.#w + other.#w;
-    const delta = other.#mean - this.#mean;
+    // other's mean about this shift: (K_b - K_a) + mean_b, then minus mean_a.
+    const delta = other.#shift - this.#shift + other.#mean - this.#mean;
     this.#mean += (delta * other.#w) / W;
     this.#m2 += other.#m2 + (delta * delta * this.#w * other.#w) / W;
     this.#w = W;
@@ -154,6 +183,7 @@ export class MomentAccumulator {
     this.#w2 = 0;
     this.#mean = 0;
     this.#m2 = 0;
+    this.#shift = 0;
     return this;
   }
 
@@ -162,7 +192,16 @@ export class MomentAccumulator {
   }
 
   toJSON(): AccumulatorState {
-    return { version: 1, n: this.#n, sumWeights: this.#w, sumSquaredWeights: this.#w2, mean: this.#mean, m2: this.#m2 };
+    return {
+      version: 1,
+      n: this.#n,
+      sumWeights: this.#w,
+      sumSquaredWeights: this.#w2,
+      mean: this.#shift + this.#mean,
+      m2: this.#m2,
+      shift: this.#shift,
+      shiftedMean: this.#mean,
+    };
   }
 
   /** Rebuilds an accumulator from `toJSON()` output (e.g. read back from a jsonb column). */
@@ -190,7 +229,19 @@ export class MomentAccumulator {
     acc.#n = n;
     acc.#w = w;
     acc.#w2 = w2;
-    acc.#mean = s.mean as number;
+    if (s.shift !== undefined || s.shiftedMean !== undefined) {
+      for (const k of ['shift', 'shiftedMean'] as const) {
+        const v = s[k];
+        if (typeof v !== 'number' || !Number.isFinite(v)) {
+          throw new RangeError(`${f}: state.${k} must be a finite number when shift is given, got ${JSON.stringify(v)}`);
+        }
+      }
+      acc.#shift = s.shift as number;
+      acc.#mean = s.shiftedMean as number;
+    } else {
+      acc.#shift = n === 0 ? 0 : (s.mean as number);
+      acc.#mean = 0;
+    }
     acc.#m2 = m2;
     return acc;
   }
