@@ -99,10 +99,14 @@ export async function castStudy(
 
 export async function counts(t: TestContext) {
   const rows = await t.ownerQuery<{ participants: number; baseline: number; allocations: number; screenings: number; audit: number; docs: number; batches: number }>(
-    `SELECT (SELECT count(*)::int FROM participant) AS participants, (SELECT count(*)::int FROM baseline_value) AS baseline,
+    `SELECT (SELECT count(*)::int FROM study) AS studies, (SELECT sum(design_version)::int FROM study) AS design_versions,
+            (SELECT count(*)::int FROM membership) AS memberships, (SELECT count(*)::int FROM stratum_counter) AS strata,
+            (SELECT count(*)::int FROM participant) AS participants, (SELECT count(*)::int FROM baseline_value) AS baseline,
             (SELECT count(*)::int FROM allocation) AS allocations, (SELECT count(*)::int FROM screening) AS screenings,
             (SELECT count(*)::int FROM audit_event) AS audit, (SELECT count(*)::int FROM consent_document) AS docs,
-            (SELECT count(*)::int FROM import_batch) AS batches`,
+            (SELECT count(*)::int FROM import_batch) AS batches,
+            (SELECT coalesce(sum(next_position), 0)::int FROM stratum_counter) AS slots,
+            (SELECT max(updated_at) FROM baseline_value) AS last_value_change`,
   );
   return rows[0]!;
 }
