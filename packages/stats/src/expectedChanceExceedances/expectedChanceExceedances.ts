@@ -1,5 +1,5 @@
 import { checkNumber } from '../inputChecks/inputChecks.js';
-import { normalCdf } from '../standardNormal/standardNormal.js';
+import { normalCdf } from '../distributions/distributions.js';
 import { chanceStandardError, SMD_CHANCE_APPROXIMATION } from '../smdChanceBand/smdChanceBand.js';
 
 export type ChanceExceedances = {
@@ -25,7 +25,7 @@ const FN = 'expectedChanceExceedances';
  *
  *   se = sqrt(1/nT + 1/nC)                       (large-sample normal approximation)
  *   p  = P(|d| > t) = 2 (1 - Phi(t / se))         (computed as 2 Phi(-t / se) for accuracy)
- *   expected = k p;  P(at least one) = 1 - (1 - p)^k
+ *   expected = k p;  P(at least one) = 1 - (1 - p)^k  (computed as -expm1(k log1p(-p)))
  * The expected count holds for any correlation between covariates (linearity of expectation);
  * P(at least one) assumes the covariates are independent, which real covariates rarely are.
  *
@@ -53,7 +53,8 @@ export function expectedChanceExceedances(
     se,
     probabilityPerCovariate: p,
     expected: k * p,
-    probabilityAtLeastOne: 1 - (1 - p) ** k,
+    // 1 - (1 - p)^k without cancellation when p is tiny.
+    probabilityAtLeastOne: k === 0 ? 0 : -Math.expm1(k * Math.log1p(-p)),
     approximation: SMD_CHANCE_APPROXIMATION,
     assumption:
       'expected count: none beyond the approximation; probability of at least one: covariates independent',

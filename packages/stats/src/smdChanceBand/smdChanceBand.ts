@@ -1,5 +1,5 @@
 import { checkNumber } from '../inputChecks/inputChecks.js';
-import { normalQuantile } from '../standardNormal/standardNormal.js';
+import { normalQuantile } from '../distributions/distributions.js';
 
 export type SmdChanceBand = {
   /** Approximate standard error of an SMD under randomization: sqrt(1/nT + 1/nC). */

@@ -29,6 +29,22 @@ describe('expectedChanceExceedances: cross-check against scipy.stats.norm.sf (fi
   });
 });
 
+describe('expectedChanceExceedances: far tails (large arms, large threshold)', () => {
+  // Reference: scipy 1.17.1, p = 2 * scipy.stats.norm.sf(t / sqrt(1/nT + 1/nC)) and
+  // -numpy.expm1(k * numpy.log1p(-p)). jstat's erfc alone gave 2.6e-4 relative error at 5e-14
+  // and 0 below ~1e-17 (found by the independent scipy cross-check).
+  it.each([
+    [8, 313, 820, 0.5, 5.252742293344708e-14, 4.202193834674994e-13],
+    [3, 712, 1153, 0.5, 9.578937176332497e-26, 2.873681152899749e-25],
+    [40, 1656, 158, 0.5, 1.913798331155064e-9, 7.655193038935588e-8],
+  ])('k = %i, nT = %i, nC = %i, t = %f', (k, nT, nC, t, p, atLeastOne) => {
+    const r = expectedChanceExceedances(k, nT, nC, t);
+    expect(Math.abs(r.probabilityPerCovariate - p) / p).toBeLessThan(1e-9);
+    expect(Math.abs(r.expected - k * p) / (k * p)).toBeLessThan(1e-9);
+    expect(Math.abs(r.probabilityAtLeastOne - atLeastOne) / atLeastOne).toBeLessThan(1e-9);
+  });
+});
+
 describe('expectedChanceExceedances: bad input', () => {
   it.each([
     ['negative covariateCount', () => expectedChanceExceedances(-1, 10, 10, 0.1), RangeError, /covariateCount must be at least 0/],
