@@ -68,7 +68,7 @@ export function AlertsTable({
         id: 'absSmd',
         header: 'SMD',
         cell: ({ row: { original: a } }) => (
-          <span className={`figure ${beyondBand(a) ? 'font-bold text-brick' : ''}`}>
+          <span className={`figure whitespace-nowrap ${beyondBand(a) ? 'font-bold text-brick' : ''}`}>
             {beyondBand(a) && (
               <>
                 <span aria-hidden="true">◆ </span>

@@ -85,7 +85,17 @@ function BalanceBody({ study, view }: { study: StudySummary; view: BalanceArmsVi
           <p data-testid="randomized-caution">{balanceCautions.randomizedImbalance}</p>
         </Callout>
       )}
-      <ChanceSummary view={view} />
+      {randomized ? (
+        <ChanceSummary view={view} />
+      ) : (
+        <Callout tone="caution" role="note" title="The groups of a cohort are not randomized">
+          <p data-testid="cohort-caution">
+            Differences before weighting are expected here, and the chance band is only a yardstick. Judge the
+            SMDs after weighting, the overlap of the propensity scores and the weights below; none of them speaks to
+            covariates that were not measured.
+          </p>
+        </Callout>
+      )}
       {view.comparisonNote && <Callout tone="info">{view.comparisonNote}</Callout>}
 
       <Card>

@@ -9,7 +9,7 @@ import { useElementWidth } from './use-width.js';
 type Site = BalancePooledView['sites'][number];
 
 const ROW = 34;
-const MARGIN = { top: 8, right: 80, bottom: 40, left: 64 };
+const MARGIN = { top: 8, right: 96, bottom: 40, left: 64 };
 
 /** Enrolled (bar) against each site's target (tick), pooled over arms. */
 export function EnrollmentBySiteChart({ sites }: { sites: Site[] }) {
@@ -57,7 +57,7 @@ export function EnrollmentBySiteChart({ sites }: { sites: Site[] }) {
                   y={top}
                   width={x(s.enrolled)}
                   height={h}
-                  fill={reached ? '#335f2a' : chartColors.point}
+                  fill={chartColors.point}
                 />
                 <Line
                   from={{ x: x(s.enrollmentTarget), y: top - 4 }}
@@ -74,6 +74,7 @@ export function EnrollmentBySiteChart({ sites }: { sites: Site[] }) {
                   fontFamily="IBM Plex Mono, ui-monospace, monospace"
                 >
                   {s.enrolled}/{s.enrollmentTarget}
+                  {reached ? ' ✓' : ''}
                 </text>
               </g>
             );
@@ -99,10 +100,7 @@ export function EnrollmentBySiteChart({ sites }: { sites: Site[] }) {
           />
           enrolled
         </li>
-        <li className="flex items-center gap-2">
-          <span aria-hidden="true" className="inline-block h-3 w-5 bg-moss" />
-          target reached
-        </li>
+        <li>✓ target reached</li>
         <li className="flex items-center gap-2">
           <svg width="10" height="16" aria-hidden="true">
             <line x1="5" y1="0" x2="5" y2="16" stroke={chartColors.target} strokeWidth="2" />

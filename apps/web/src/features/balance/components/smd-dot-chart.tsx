@@ -11,7 +11,7 @@ import type { SmdRow } from './smd-rows.js';
 import { useElementWidth } from './use-width.js';
 
 const ROW = 30;
-const MARGIN = { top: 30, right: 24, bottom: 40, left: 190 };
+const MARGIN = { top: 30, right: 70, bottom: 40, left: 190 };
 
 function Diamond({ x, y, r, fill }: { x: number; y: number; r: number; fill: string }) {
   return <path d={`M${x},${y - r} L${x + r},${y} L${x},${y + r} L${x - r},${y} Z`} fill={fill} />;
@@ -204,6 +204,18 @@ export function SmdDotChart({
                   ) : (
                     <circle cx={x(row.smd)} cy={cy} r={5.5} fill={chartColors.point} />
                   ))}
+                <text
+                  x={innerWidth + 12}
+                  y={cy}
+                  dy="0.35em"
+                  fontSize={11.5}
+                  fontFamily="IBM Plex Mono, ui-monospace, monospace"
+                  fill={row.flags.beyondChance ? chartColors.flagged : chartColors.ink}
+                  fontWeight={row.flags.beyondChance ? 700 : 400}
+                  aria-hidden="true"
+                >
+                  {formatSmd(weighted && row.after !== null ? row.after : row.smd, 2)}
+                </text>
                 {row.smd === null && (
                   <text x={x(0) + 8} y={cy} dy="0.35em" fontSize={11} fill={chartColors.graphite}>
                     not computed

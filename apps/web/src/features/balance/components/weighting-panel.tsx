@@ -28,7 +28,8 @@ function pair(
 export function WeightingPanel({ view, weighting }: { view: BalanceArmsView; weighting: Weighting }) {
   const overlap = pair(view.arms, weighting.propensityOverlap);
   const weights = pair(view.arms, weighting.weightHistogram);
-  const extra = weighting.cautions.filter((c) => c !== balanceCautions.weighting);
+  // The weighting and judgement notes are already on screen; list only what is particular to this fit.
+  const extra = weighting.cautions.filter((c) => c !== balanceCautions.weighting && c !== balanceCautions.judgement);
   return (
     <Card data-testid="weighting-panel">
       <CardHeader
