@@ -1,7 +1,9 @@
 import type { DataSource, EntityManager } from 'typeorm';
 import { inTransaction } from '../db/transaction.js';
 import { appendAudit, type AuditActor } from '../modules/audit/audit.service.js';
+import type { JobQueue } from '../jobs/queue.js';
 import { cohortSites, coordinatorSites, demoUsers, trialSites } from './demo-scenario.js';
+import { seedEnrollment } from './seed-enrollment.js';
 
 const SEED_ACTOR: AuditActor = { userId: null, email: 'seed@counterpoise.local', role: 'system', requestId: 'seed' };
 
@@ -72,10 +74,19 @@ async function ensureStudy(tx: EntityManager, s: StudySeed): Promise<{ id: strin
 }
 
 /**
- * Creates the demo accounts, studies, sites and memberships when they are missing.
+ * Creates the demo accounts, studies, sites and memberships when they are missing, then (given
+ * the job queue) the study designs and enrolled participants (seed-enrollment.ts).
  * Idempotent: a second run finds everything and adds nothing.
  */
-export async function seedDemo(ds: DataSource, passwordHash: string): Promise<{ created: boolean; detail: string }> {
+export async function seedDemo(ds: DataSource, passwordHash: string, jobs?: JobQueue): Promise<{ created: boolean; detail: string }> {
+  const base = await seedAccountsAndStudies(ds, passwordHash);
+  if (!jobs) return base;
+  const enrolled = await seedEnrollment({ ds, jobs });
+  if (!enrolled) return base;
+  return { created: true, detail: [base.detail, enrolled].filter(Boolean).join('; ') };
+}
+
+async function seedAccountsAndStudies(ds: DataSource, passwordHash: string): Promise<{ created: boolean; detail: string }> {
   return inTransaction(ds, async (tx) => {
     const existing: { n: number }[] = await tx.query(
       `SELECT count(*)::int AS n FROM app_user WHERE email = ANY($1::text[])`,
