@@ -1,5 +1,6 @@
 import type { Router } from 'express';
 import type { AppContext } from './app-context.js';
+import { analysisRoutes } from './modules/analysis/analysis.routes.js';
 import { balanceRoutes } from './modules/balance/balance.routes.js';
 import { designRoutes } from './modules/design/design.routes.js';
 import { participantsRoutes } from './modules/participants/participants.routes.js';
@@ -14,4 +15,5 @@ export const routeModules: ((ctx: AppContext) => Router)[] = [
   participantsRoutes,
   uploadsRoutes,
   balanceRoutes,
+  analysisRoutes,
 ];

@@ -32,6 +32,7 @@ export const studyActions = [
   'alerts.manage',
   'analysis.run',
   'audit.read',
+  'outcome.write',
 ] as const;
 export type StudyAction = (typeof studyActions)[number];
 
@@ -43,7 +44,7 @@ type StudyRole = StudyRoleName | 'admin';
 /** Rows: what each role may do in a study it belongs to. Coordinators are limited to their sites. */
 const studyMatrix: Record<StudyRole, readonly StudyAction[]> = {
   admin: ['study.read', 'study.design', 'audit.read'],
-  coordinator: ['study.read', 'participant.read', 'participant.write', 'allocation.unblind'],
+  coordinator: ['study.read', 'participant.read', 'participant.write', 'allocation.unblind', 'outcome.write'],
   statistician: [
     'study.read',
     'study.design',
@@ -55,6 +56,7 @@ const studyMatrix: Record<StudyRole, readonly StudyAction[]> = {
     'alerts.manage',
     'analysis.run',
     'audit.read',
+    'outcome.write',
   ],
   sponsor: ['study.read', 'balance.pooled'],
   auditor: ['study.read', 'participant.read', 'audit.read'],
