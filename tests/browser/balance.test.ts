@@ -27,7 +27,11 @@ async function signIn(context: BrowserContext, email: string): Promise<Page> {
 async function openKestrel(page: Page): Promise<void> {
   await page.goto(`${BASE_URL}/studies`);
   // The list renders a table on wide screens and cards on narrow ones: take the visible link.
-  await page.getByRole('link', { name: /KESTREL/ }).filter({ visible: true }).first().click();
+  await page
+    .getByRole('link', { name: /KESTREL/ })
+    .filter({ visible: true })
+    .first()
+    .click();
   await page.waitForURL(/\/studies\/[0-9a-f-]{36}$/);
 }
 
@@ -94,7 +98,8 @@ describe('balance dashboard of the demo trial', () => {
     expect(await open.textContent()).toMatch(/±\d\.\d{3}/);
     await screenshot(page, 'balance-alerts-open');
 
-    const comment = 'Checked: within what chance gives across all covariates at this size; pre-specified model unchanged.';
+    const comment =
+      'Checked: within what chance gives across all covariates at this size; pre-specified model unchanged.';
     await open.getByRole('button', { name: /^Acknowledge/ }).click();
     const form = page.locator(`#ack-${alertId}`);
     await form.getByLabel(/Comment/).fill(comment);
@@ -122,7 +127,9 @@ describe('balance dashboard of the demo trial', () => {
     const pooled = page.getByTestId('pooled-overview');
     await pooled.waitFor();
     expect(await pooled.getByTestId('statistician-caution').textContent()).toContain(CAUTION);
-    expect(await page.getByTestId('enrollment-by-site').getAttribute('aria-label')).toMatch(/Enrollment against target by site/);
+    expect(await page.getByTestId('enrollment-by-site').getAttribute('aria-label')).toMatch(
+      /Enrollment against target by site/,
+    );
     expect(await page.getByTestId('pooled-distributions').locator('tbody tr').count()).toBeGreaterThan(2);
     expect(await page.getByRole('link', { name: 'Balance', exact: true }).count()).toBe(0);
     expect(await page.getByTestId('smd-dot-chart').count()).toBe(0);

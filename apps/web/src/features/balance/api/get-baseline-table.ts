@@ -7,9 +7,10 @@ export const baselineTableQueryKey = (studyId: string) => ['studies', studyId, '
 export async function getBaselineTable(
   studyId: string,
   pvalues: boolean,
+  siteId: string | null,
   signal?: AbortSignal,
 ): Promise<BaselineTable> {
-  const search = toQueryString({ pvalues: pvalues ? 'true' : undefined });
+  const search = toQueryString({ pvalues: pvalues ? 'true' : undefined, site: siteId });
   return api.get(
     `/studies/${encodeURIComponent(studyId)}/baseline-table${search}`,
     baselineTableSchema,
@@ -17,21 +18,26 @@ export async function getBaselineTable(
   );
 }
 
-export const baselineTableQueryOptions = (studyId: string, pvalues: boolean) =>
+export const baselineTableQueryOptions = (studyId: string, pvalues: boolean, siteId: string | null = null) =>
   queryOptions({
-    queryKey: [...baselineTableQueryKey(studyId), { pvalues }] as const,
-    queryFn: ({ signal }) => getBaselineTable(studyId, pvalues, signal),
+    queryKey: [...baselineTableQueryKey(studyId), { pvalues, site: siteId }] as const,
+    queryFn: ({ signal }) => getBaselineTable(studyId, pvalues, siteId, signal),
     // Keep the table on screen while the labelled p-values are fetched.
     placeholderData: keepPreviousData,
   });
 
-export function useBaselineTable(studyId: string, pvalues: boolean) {
-  return useQuery(baselineTableQueryOptions(studyId, pvalues));
+export function useBaselineTable(studyId: string, pvalues: boolean, siteId: string | null = null) {
+  return useQuery(baselineTableQueryOptions(studyId, pvalues, siteId));
 }
 
 /** The CSV is a plain download link: the session cookie goes with it. */
-export function baselineTableCsvHref(studyId: string, pvalues: boolean): string {
+export function baselineTableCsvHref(
+  studyId: string,
+  pvalues: boolean,
+  siteId: string | null = null,
+): string {
   return `/api/studies/${encodeURIComponent(studyId)}/baseline-table.csv${toQueryString({
     pvalues: pvalues ? 'true' : undefined,
+    site: siteId,
   })}`;
 }

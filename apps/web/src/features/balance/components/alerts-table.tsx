@@ -19,7 +19,11 @@ export const ruleLabel: Record<Alert['rule'], string> = {
   smd_beyond_chance: 'SMD beyond the 95% chance band',
 };
 
-const stateTone: Record<Alert['state'], BadgeTone> = { open: 'brick', acknowledged: 'harbor', cleared: 'moss' };
+const stateTone: Record<Alert['state'], BadgeTone> = {
+  open: 'brick',
+  acknowledged: 'harbor',
+  cleared: 'moss',
+};
 
 export type ChanceInfo = { expected: number | null; covariateCount: number; threshold: number };
 
@@ -62,7 +66,11 @@ export function AlertsTable({
         id: 'site',
         header: 'Site',
         cell: ({ row: { original: a } }) =>
-          a.siteCode ? <span className="font-semibold">{a.siteCode}</span> : <span className="text-graphite">all sites</span>,
+          a.siteCode ? (
+            <span className="font-semibold">{a.siteCode}</span>
+          ) : (
+            <span className="text-graphite">all sites</span>
+          ),
       }),
       column.accessor((a) => Math.abs(a.lastSmd ?? 0), {
         id: 'absSmd',

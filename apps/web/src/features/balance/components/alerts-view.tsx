@@ -48,10 +48,14 @@ export function AlertsView({ study }: { study: StudySummary }) {
       <h2 className="text-lg font-semibold text-ink">Balance alerts</h2>
       <StatisticianCaution />
       {randomized ? (
-        <Callout tone="caution" role="note" title="An alert shows the chance band; it does not change the analysis">
+        <Callout
+          tone="caution"
+          role="note"
+          title="An alert shows the chance band; it does not change the analysis"
+        >
           <p data-testid="alert-caution">
-            {balanceCautions.randomizedImbalance} Each alert shows the 95% chance band for its group sizes and how
-            many crossings chance alone would give across all covariates at those sizes.
+            {balanceCautions.randomizedImbalance} Each alert shows the 95% chance band for its group sizes and
+            how many crossings chance alone would give across all covariates at those sizes.
           </p>
         </Callout>
       ) : (

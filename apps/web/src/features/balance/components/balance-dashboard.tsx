@@ -1,9 +1,10 @@
-import { useEffect, useRef } from 'react';
+import { useEffect, useRef, useState } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { balanceCautions, type BalanceArmsView } from '@counterpoise/contracts/balance';
 import type { StudySummary } from '@counterpoise/contracts/studies';
 import { Callout } from '../../../components/ui/callout.js';
 import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
+import { SelectField } from '../../../components/ui/field.js';
 import { EmptyState, ErrorState, LoadingState } from '../../../components/ui/states.js';
 import { StatisticianCaution } from '../../../components/ui/statistician-caution.js';
 import { isApiError } from '../../../lib/api-client.js';
@@ -22,8 +23,13 @@ import { WeightingPanel } from './weighting-panel.js';
 
 /** The unblinded statistician's balance page: table, SMD chart, history, site grid, weighting. */
 export function BalanceDashboard({ study }: { study: StudySummary }) {
-  const balance = useBalanceArms(study.id);
-  useRefreshOnNewSnapshot(study.id, balance.data?.snapshot.id);
+  const [siteId, setSiteId] = useState<string | null>(null);
+  // The overall snapshot lists the sites for the scope picker; with a site chosen, its own view is fetched too.
+  const overall = useBalanceArms(study.id, null);
+  const scoped = useBalanceArms(study.id, siteId);
+  const balance = siteId ? scoped : overall;
+  useRefreshOnNewSnapshot(study.id, overall.data?.snapshot.id);
+  const sites = overall.data?.siteGrid ?? [];
 
   return (
     <div className="flex flex-col gap-5" data-testid="balance-dashboard">
@@ -31,6 +37,23 @@ export function BalanceDashboard({ study }: { study: StudySummary }) {
         <h2 className="text-lg font-semibold text-ink">Baseline balance</h2>
         {balance.data && <FreshnessBar studyId={study.id} freshness={balance.data.freshness} canRecompute />}
       </div>
+      {sites.length > 0 && (
+        <SelectField
+          label="Scope"
+          hint="All sites together, or one site with its own group sizes and chance band."
+          value={siteId ?? ''}
+          onChange={(e) => setSiteId(e.currentTarget.value || null)}
+          frameClassName="max-w-md"
+          data-testid="balance-scope"
+        >
+          <option value="">All sites (overall)</option>
+          {sites.map((s) => (
+            <option key={s.siteId} value={s.siteId}>
+              {s.code} · {s.name} ({s.enrolled} enrolled{s.judgeable ? '' : ', too small to judge'})
+            </option>
+          ))}
+        </SelectField>
+      )}
       <StatisticianCaution />
       {balance.isPending ? (
         <LoadingState label="Loading the latest balance snapshot…" />
@@ -50,7 +73,7 @@ export function BalanceDashboard({ study }: { study: StudySummary }) {
           <ErrorState error={balance.error} onRetry={() => void balance.refetch()} />
         )
       ) : (
-        <BalanceBody study={study} view={balance.data} />
+        <BalanceBody study={study} view={balance.data} siteId={siteId} />
       )}
     </div>
   );
@@ -70,13 +93,23 @@ function useRefreshOnNewSnapshot(studyId: string, snapshotId: string | undefined
   }, [queryClient, studyId, snapshotId]);
 }
 
-function BalanceBody({ study, view }: { study: StudySummary; view: BalanceArmsView }) {
+function BalanceBody({
+  study,
+  view,
+  siteId,
+}: {
+  study: StudySummary;
+  view: BalanceArmsView;
+  siteId: string | null;
+}) {
   const randomized = view.snapshot.studyKind === 'randomized_trial';
   const weighted = view.weighting?.status === 'ok';
   const rows = smdRows(view);
   const threshold = view.rules.smdThreshold;
   const reference = view.arms.find((a) => a.id === view.referenceArmId);
   const other = view.arms.find((a) => a.id !== view.referenceArmId);
+  // Caution 11: a site below the minimum per arm gets no SMD chart at all, only its counts.
+  const tooSmall = view.site !== null && !view.site.judgeable;
 
   return (
     <>
@@ -86,13 +119,13 @@ function BalanceBody({ study, view }: { study: StudySummary; view: BalanceArmsVi
         </Callout>
       )}
       {randomized ? (
-        <ChanceSummary view={view} />
+        <ChanceSummary view={view} scope={view.site ? `at site ${view.site.code}` : 'overall'} />
       ) : (
         <Callout tone="caution" role="note" title="The groups of a cohort are not randomized">
           <p data-testid="cohort-caution">
             Differences before weighting are expected here, and the chance band is only a yardstick. Judge the
-            SMDs after weighting, the overlap of the propensity scores and the weights below; none of them speaks to
-            covariates that were not measured.
+            SMDs after weighting, the overlap of the propensity scores and the weights below; none of them
+            speaks to covariates that were not measured.
           </p>
         </Callout>
       )}
@@ -108,7 +141,17 @@ function BalanceBody({ study, view }: { study: StudySummary; view: BalanceArmsVi
           }
         />
         <CardBody className="flex flex-col gap-4">
-          {rows.length === 0 ? (
+          {tooSmall && view.site ? (
+            <Callout tone="caution" role="note" title={`Site ${view.site.code} is too small to judge`}>
+              <p data-testid="site-too-small">
+                {balanceCautions.smallSites} This site has{' '}
+                {view.site.nByArm
+                  .map((a) => `${a.n} in ${view.arms.find((x) => x.id === a.armId)?.code ?? 'an arm'}`)
+                  .join(' and ')}
+                ; the minimum is {view.rules.minPerArmForSiteAlerts} per arm, so its SMDs are not shown.
+              </p>
+            </Callout>
+          ) : rows.length === 0 ? (
             <p className="text-sm text-graphite">No covariates in the design yet.</p>
           ) : (
             <>
@@ -127,7 +170,7 @@ function BalanceBody({ study, view }: { study: StudySummary; view: BalanceArmsVi
         </CardBody>
       </Card>
 
-      {view.weighting && <WeightingPanel view={view} weighting={view.weighting} />}
+      {view.weighting && !siteId && <WeightingPanel view={view} weighting={view.weighting} />}
 
       <div className="grid gap-5 2xl:grid-cols-2">
         <Card>
@@ -136,44 +179,46 @@ function BalanceBody({ study, view }: { study: StudySummary; view: BalanceArmsVi
             description="One covariate at a time: the SMD at each snapshot against the number enrolled, with the chance band narrowing as n grows."
           />
           <CardBody>
-            <HistoryCard studyId={study.id} />
+            <HistoryCard studyId={study.id} siteId={siteId} />
           </CardBody>
         </Card>
-        <Card>
-          <CardHeader
-            title="By site"
-            description="Each site's SMD for every covariate, with the site's own group sizes behind its chance band."
-          />
-          <CardBody>
-            {view.siteGrid && view.siteGrid.length > 0 ? (
-              <SiteGrid view={view} />
-            ) : (
-              <p className="text-sm text-graphite">No site has enrolled anyone yet.</p>
-            )}
-          </CardBody>
-        </Card>
+        {!siteId && (
+          <Card>
+            <CardHeader
+              title="By site"
+              description="Each site's SMD for every covariate, with the site's own group sizes behind its chance band."
+            />
+            <CardBody>
+              {view.siteGrid && view.siteGrid.length > 0 ? (
+                <SiteGrid view={view} />
+              ) : (
+                <p className="text-sm text-graphite">No site has enrolled anyone yet.</p>
+              )}
+            </CardBody>
+          </Card>
+        )}
       </div>
 
-      <BaselineTableCard studyId={study.id} />
+      <BaselineTableCard studyId={study.id} siteId={siteId} />
     </>
   );
 }
 
-function HistoryCard({ studyId }: { studyId: string }) {
-  const history = useBalanceHistory(studyId);
+function HistoryCard({ studyId, siteId }: { studyId: string; siteId: string | null }) {
+  const history = useBalanceHistory(studyId, siteId);
   if (history.isPending) return <LoadingState label="Loading the balance history…" />;
   if (history.isError) return <ErrorState error={history.error} onRetry={() => void history.refetch()} />;
   return <BalanceHistoryChart history={history.data} />;
 }
 
 /** How many crossings chance alone would give, next to how many there are. */
-function ChanceSummary({ view }: { view: BalanceArmsView }) {
+function ChanceSummary({ view, scope }: { view: BalanceArmsView; scope: string }) {
   const c = view.chance;
   return (
     <Callout tone="info" role="note" title="What chance alone would give">
       <p data-testid="chance-summary">
         <span className="figure">{c.observed}</span> of <span className="figure">{c.covariateCount}</span>{' '}
-        covariates cross |SMD| {c.threshold} overall. At the current group sizes, chance alone gives about{' '}
+        covariates cross |SMD| {c.threshold} {scope}. At these group sizes, chance alone gives about{' '}
         <span className="figure">{formatNumber(c.expected, 1)}</span> such crossings on average
         {c.probabilityAtLeastOne !== null && (
           <>

@@ -35,9 +35,9 @@ function formatP(p: number | null): string {
 }
 
 /** The baseline table by arm and overall; p-values only on request, each time with the CONSORT caution. */
-export function BaselineTableCard({ studyId }: { studyId: string }) {
+export function BaselineTableCard({ studyId, siteId = null }: { studyId: string; siteId?: string | null }) {
   const [showP, setShowP] = useState(false);
-  const table = useBaselineTable(studyId, showP);
+  const table = useBaselineTable(studyId, showP, siteId);
   const captionId = useId();
 
   return (
@@ -48,7 +48,7 @@ export function BaselineTableCard({ studyId }: { studyId: string }) {
         actions={
           <a
             className={buttonClass('secondary', 'sm')}
-            href={baselineTableCsvHref(studyId, showP)}
+            href={baselineTableCsvHref(studyId, showP, siteId)}
             download
             data-testid="baseline-csv"
           >

@@ -52,13 +52,7 @@ export function EnrollmentBySiteChart({ sites }: { sites: Site[] }) {
                   {s.code}
                 </text>
                 <Bar x={0} y={top} width={x(s.enrollmentTarget)} height={h} fill="#efe9df" />
-                <Bar
-                  x={0}
-                  y={top}
-                  width={x(s.enrolled)}
-                  height={h}
-                  fill={chartColors.point}
-                />
+                <Bar x={0} y={top} width={x(s.enrolled)} height={h} fill={chartColors.point} />
                 <Line
                   from={{ x: x(s.enrollmentTarget), y: top - 4 }}
                   to={{ x: x(s.enrollmentTarget), y: top + h + 4 }}

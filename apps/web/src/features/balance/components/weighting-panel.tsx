@@ -29,7 +29,9 @@ export function WeightingPanel({ view, weighting }: { view: BalanceArmsView; wei
   const overlap = pair(view.arms, weighting.propensityOverlap);
   const weights = pair(view.arms, weighting.weightHistogram);
   // The weighting and judgement notes are already on screen; list only what is particular to this fit.
-  const extra = weighting.cautions.filter((c) => c !== balanceCautions.weighting && c !== balanceCautions.judgement);
+  const extra = weighting.cautions.filter(
+    (c) => c !== balanceCautions.weighting && c !== balanceCautions.judgement,
+  );
   return (
     <Card data-testid="weighting-panel">
       <CardHeader
