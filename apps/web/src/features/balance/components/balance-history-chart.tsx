@@ -164,7 +164,9 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
               tickStroke={chartColors.graphite}
               tickFormat={(v) => String(Math.round(Number(v)))}
               tickLabelProps={() => ({ ...axisTickLabel, textAnchor: 'middle' })}
-              label="Participants enrolled"
+              label={
+                history.scope.siteId ? 'Participants enrolled in the whole study' : 'Participants enrolled'
+              }
               labelProps={{ fill: chartColors.ink, fontSize: 12, textAnchor: 'middle' }}
             />
           </Group>
