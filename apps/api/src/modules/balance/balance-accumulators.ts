@@ -64,7 +64,16 @@ export function applyContribution(set: AccumulatorSet, c: Contribution, sign: 1 
   }
 }
 
-type AggregateRow = { site_id: string; arm_id: string; covariate_key: string; level: string; n: number; mean: number; m2: number };
+type AggregateRow = {
+  site_id: string;
+  arm_id: string;
+  covariate_key: string;
+  level: string;
+  n_num: number;
+  n_all: number;
+  mean: number | null;
+  m2: number | null;
+};
 
 /**
  * Rebuilds every cell from all rows, in one statement that also consumes the study's change
@@ -76,50 +85,60 @@ type AggregateRow = { site_id: string; arm_id: string; covariate_key: string; le
  * value had been added one by one.
  */
 export async function aggregateAll(db: Queryable, config: StudyConfig): Promise<AccumulatorSet> {
+  // One hash aggregate over the join; covariates grouped by id (uuid comparisons are far cheaper than text keys).
   const data = await rows<AggregateRow>(
     db,
-    `WITH consumed AS (DELETE FROM balance_change WHERE study_id = $1 RETURNING id),
-     members AS MATERIALIZED (
-       SELECT p.id, p.site_id, ${armSql(config.kind)} AS arm_id
-         FROM participant p LEFT JOIN allocation a ON a.participant_id = p.id
-        WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
-     ),
-     vals AS MATERIALIZED (
-       SELECT m.site_id, m.arm_id, c.key, ${numericValueSql} AS x, ${levelValueSql} AS lvl
-         FROM members m
-         JOIN baseline_value b ON b.participant_id = m.id
-         JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1
-     )
-     SELECT site_id, arm_id, key AS covariate_key, '' AS level, count(*)::int AS n, avg(x) AS mean,
-            CASE WHEN count(*) > 1 THEN var_samp(x) * (count(*) - 1) ELSE 0 END AS m2
-       FROM vals WHERE x IS NOT NULL GROUP BY site_id, arm_id, key
+    `WITH consumed AS (DELETE FROM balance_change WHERE study_id = $1 RETURNING id)
+     SELECT p.site_id, ${armSql(config.kind)} AS arm_id, b.covariate_id::text AS covariate_key,
+            COALESCE(${levelValueSql}, '') AS level,
+            count(${numericValueSql})::int AS n_num, count(*)::int AS n_all,
+            avg(${numericValueSql}) AS mean,
+            CASE WHEN count(${numericValueSql}) > 1 THEN var_samp(${numericValueSql}) * (count(${numericValueSql}) - 1) ELSE 0 END AS m2
+       FROM participant p
+       LEFT JOIN allocation a ON a.participant_id = p.id
+       JOIN baseline_value b ON b.participant_id = p.id
+       JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1
+      WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
+      GROUP BY 1, 2, 3, 4
      UNION ALL
-     SELECT site_id, arm_id, key, lvl, count(*)::int, 1, 0 FROM vals WHERE lvl IS NOT NULL GROUP BY site_id, arm_id, key, lvl
-     UNION ALL
-     SELECT site_id, arm_id, '', '', count(*)::int, 1, 0 FROM members GROUP BY site_id, arm_id`,
+     SELECT p.site_id, ${armSql(config.kind)}, '', '', 0, count(*)::int, 1, 0
+       FROM participant p LEFT JOIN allocation a ON a.participant_id = p.id
+      WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
+      GROUP BY 1, 2`,
     [config.id],
   );
+  const keyOf = new Map(config.covariates.map((c) => [c.id, c]));
   const set = new AccumulatorSet();
   for (const r of data) {
-    const state: AccumulatorState = {
-      version: 1,
-      n: r.n,
-      sumWeights: r.n,
-      sumSquaredWeights: r.n,
-      mean: r.mean,
-      m2: Math.max(0, r.m2),
-    };
-    set.set({ siteId: r.site_id, armId: r.arm_id, covariateKey: r.covariate_key, level: r.level }, MomentAccumulator.fromState(state));
+    let key = '';
+    let n = r.n_all;
+    let mean = 1;
+    let m2 = 0;
+    if (r.covariate_key !== '') {
+      const cov = keyOf.get(r.covariate_key);
+      if (!cov) continue;
+      key = cov.key;
+      if (cov.kind !== 'categorical') {
+        // Rows whose value is not readable for the kind (n_num < n_all) count as missing.
+        n = r.n_num;
+        mean = r.mean ?? 0;
+        m2 = Math.max(0, r.m2 ?? 0);
+      } else if (r.level === '') continue;
+    }
+    if (n === 0) continue;
+    const state: AccumulatorState = { version: 1, n, sumWeights: n, sumSquaredWeights: n, mean, m2 };
+    set.set({ siteId: r.site_id, armId: r.arm_id, covariateKey: key, level: r.level }, MomentAccumulator.fromState(state));
   }
   for (const id of set.cells.keys()) set.dirty.add(id);
   return set;
 }
 
-export async function loadAccumulators(db: Queryable, studyId: string): Promise<AccumulatorSet> {
+export async function loadAccumulators(db: Queryable, studyId: string, siteId: string | null = null): Promise<AccumulatorSet> {
   const data = await rows<{ site_id: string; arm_id: string; covariate_key: string; level: string; state: unknown }>(
     db,
-    `SELECT site_id, arm_id, covariate_key, level, state FROM balance_accumulator WHERE study_id = $1`,
-    [studyId],
+    `SELECT site_id, arm_id, covariate_key, level, state FROM balance_accumulator
+      WHERE study_id = $1 AND ($2::uuid IS NULL OR site_id = $2)`,
+    [studyId, siteId],
   );
   const set = new AccumulatorSet();
   for (const r of data) {

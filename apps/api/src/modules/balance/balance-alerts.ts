@@ -100,6 +100,7 @@ export async function evaluateAlerts(
   const scopeKey = (cov: string, site: string | null, arm: string) => `${cov}|${site ?? 'overall'}|${arm}`;
   const liveScopes = new Set(live.map((a) => scopeKey(a.covariate_key, a.site_id, a.arm_id)));
   const notify: string[] = [];
+  const stillHolding: { id: string; smd: number | null; vr: number | null; hw: number | null; na: number; nr: number }[] = [];
   const changes: AlertChanges = { opened: [], cleared: [], updated: 0 };
   const audit: AuditEntry[] = [];
   const figures = (c: ArmComparison) => ({
@@ -140,16 +141,21 @@ export async function evaluateAlerts(
         revealsAllocation: true,
       });
     } else if (existing && holds) {
-      await tx.query(
-        `UPDATE alert SET last_evaluated_at = now(), last_smd = $2, last_variance_ratio = $3, last_half_width = $4,
-                last_n_arm = $5, last_n_reference = $6 WHERE id = $1`,
-        [existing.id, c.smd, c.varianceRatio, c.chanceBand?.halfWidth ?? null, c.nArm, c.nReference],
-      );
+      stillHolding.push({ id: existing.id, smd: c.smd, vr: c.varianceRatio, hw: c.chanceBand?.halfWidth ?? null, na: c.nArm, nr: c.nReference });
       changes.updated++;
     } else if (existing && !holds) {
       await clearAlert(tx, existing, figures(c), audit, config.id);
       changes.cleared.push(existing.id);
     }
+  }
+  if (stillHolding.length) {
+    await tx.query(
+      `UPDATE alert a SET last_evaluated_at = now(), last_smd = x.smd, last_variance_ratio = x.vr, last_half_width = x.hw,
+              last_n_arm = x.na, last_n_reference = x.nr
+         FROM jsonb_to_recordset($1::jsonb) AS x(id uuid, smd float8, vr float8, hw float8, na int, nr int)
+        WHERE a.id = x.id`,
+      [JSON.stringify(stillHolding)],
+    );
   }
   // Alerts for covariates no longer in the design cannot hold any more.
   for (const a of live) {

@@ -12,7 +12,7 @@ import {
   smdChanceBand,
   standardizedMeanDifferenceFromSummaries,
 } from '@counterpoise/stats';
-import type { AccumulatorSet } from './balance-accumulators.js';
+import type { AccumulatorSet, CellKey } from './balance-accumulators.js';
 import { CHANCE_LEVEL, type CovariateInfo, type StudyConfig } from './balance-config.js';
 
 /** Medians, quartiles and range per covariate: per arm and pooled (overall scope only). */
@@ -23,19 +23,44 @@ export type QuantileSet = Record<
 export type Quantiles = { median: number; q1: number; q3: number; min: number; max: number };
 
 /** One scope (all sites, or one site): merged accumulators per arm and covariate. */
-type ScopeCells = {
+export type ScopeCells = {
   participants: Map<string, number>;
   moments: Map<string, Map<string, MomentAccumulator>>; // covariate -> arm -> acc
   levels: Map<string, Map<string, Map<string, number>>>; // covariate -> arm -> level -> count
 };
 
+const emptyScope = (): ScopeCells => ({ participants: new Map(), moments: new Map(), levels: new Map() });
+
+/** The overall scope and every site's, in one pass over the cells. */
+export function allScopes(set: AccumulatorSet): { overall: ScopeCells; bySite: Map<string, ScopeCells> } {
+  const overall = emptyScope();
+  const bySite = new Map<string, ScopeCells>();
+  for (const cell of set.cells.values()) {
+    if (cell.acc.n === 0) continue;
+    let site = bySite.get(cell.key.siteId);
+    if (!site) {
+      site = emptyScope();
+      bySite.set(cell.key.siteId, site);
+    }
+    addCell(site, cell.key, cell.acc);
+    addCell(overall, cell.key, cell.acc);
+  }
+  return { overall, bySite };
+}
+
 export function scopeCells(set: AccumulatorSet, siteId: string | null): ScopeCells {
-  const participants = new Map<string, number>();
-  const moments = new Map<string, Map<string, MomentAccumulator>>();
-  const levels = new Map<string, Map<string, Map<string, number>>>();
+  const scope = emptyScope();
   for (const { key, acc } of set.cells.values()) {
     if (siteId !== null && key.siteId !== siteId) continue;
     if (acc.n === 0) continue;
+    addCell(scope, key, acc);
+  }
+  return scope;
+}
+
+function addCell(scope: ScopeCells, key: CellKey, acc: MomentAccumulator): void {
+  const { participants, moments, levels } = scope;
+  {
     if (key.covariateKey === '') {
       participants.set(key.armId, (participants.get(key.armId) ?? 0) + acc.n);
     } else if (key.level === '') {
@@ -53,7 +78,6 @@ export function scopeCells(set: AccumulatorSet, siteId: string | null): ScopeCel
       counts.set(key.level, (counts.get(key.level) ?? 0) + acc.n);
     }
   }
-  return { participants, moments, levels };
 }
 
 const safe = <T>(f: () => T): T | null => {

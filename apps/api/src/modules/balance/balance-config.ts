@@ -137,7 +137,8 @@ export function codeValue(kind: CovariateKind, valueNumber: number | null, value
     }
     return null;
   }
-  if (valueText !== null) return valueText;
+  // A blank level is missing, as in levelValueSql.
+  if (valueText !== null && valueText !== '') return valueText;
   return valueNumber !== null ? String(valueNumber) : null;
 }
 
@@ -151,7 +152,7 @@ export const numericValueSql = `CASE c.kind
   END
 END`;
 /** SQL for the level of a categorical baseline row. */
-export const levelValueSql = `CASE WHEN c.kind = 'categorical' THEN COALESCE(b.value_text, b.value_number::text) END`;
+export const levelValueSql = `CASE WHEN c.kind = 'categorical' THEN COALESCE(NULLIF(b.value_text, ''), b.value_number::text) END`;
 
 /** SQL expression for the arm a participant `p` counts in: the allocation in a trial, the recorded exposure in a cohort. */
 export const armSql = (kind: StudyConfig['kind']) => (kind === 'randomized_trial' ? 'a.arm_id' : 'p.exposure_arm_id');

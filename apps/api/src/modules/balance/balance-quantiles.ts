@@ -17,7 +17,7 @@ export async function computeQuantiles(db: Queryable, config: StudyConfig): Prom
     max: number;
   }>(
     db,
-    `SELECT c.key, ${armSql(config.kind)} AS arm_id,
+    `SELECT b.covariate_id AS key, ${armSql(config.kind)} AS arm_id,
             percentile_cont(ARRAY[0.25, 0.5, 0.75]) WITHIN GROUP (ORDER BY b.value_number) AS q,
             min(b.value_number) AS min, max(b.value_number) AS max
        FROM participant p
@@ -26,12 +26,15 @@ export async function computeQuantiles(db: Queryable, config: StudyConfig): Prom
        JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1 AND c.kind = 'continuous'
       WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
         AND (${numericValueSql}) IS NOT NULL
-      GROUP BY GROUPING SETS ((c.key, ${armSql(config.kind)}), (c.key))`,
+      GROUP BY GROUPING SETS ((b.covariate_id, ${armSql(config.kind)}), (b.covariate_id))`,
     [config.id],
   );
   const out: QuantileSet = {};
+  const keyOf = new Map(config.covariates.map((c) => [c.id, c.key]));
   for (const r of data) {
-    const entry = (out[r.key] ??= { byArm: {}, pooled: undefined });
+    const key = keyOf.get(r.key);
+    if (!key) continue;
+    const entry = (out[key] ??= { byArm: {}, pooled: undefined });
     const q = { q1: r.q[0], median: r.q[1], q3: r.q[2], min: r.min, max: r.max };
     if (r.arm_id === null) entry.pooled = q;
     else entry.byArm[r.arm_id] = q;

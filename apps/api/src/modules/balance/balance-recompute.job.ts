@@ -38,8 +38,6 @@ export const QUANTILES_EVERY_RUN_UP_TO = 20_000;
 export const FULL_AFTER_CHANGED_SHARE = 0.05;
 /** Above this many changed participants one aggregate pass is cheaper than applying changes one by one. */
 const INCREMENTAL_MAX_PARTICIPANTS = 2_000;
-/** Per-site details are kept for the latest snapshots only; the compact trend is kept for all. */
-const SITE_DETAIL_SNAPSHOTS_KEPT = 20;
 // Advisory lock class for "one recompute per study at a time" (the queue's stately policy already tries).
 const LOCK_CLASS = 7_261_905;
 
@@ -96,6 +94,8 @@ async function runInTransaction(
 ): Promise<Omit<RecomputeResult, 'mailsSent'> | null> {
   return inTransaction(ctx.ds, async (tx) => {
     await tx.query(`SELECT pg_advisory_xact_lock($1, hashtext($2))`, [LOCK_CLASS, payload.studyId]);
+    // Aggregates and quantile sorts over millions of values stay in memory.
+    await tx.query(`SET LOCAL work_mem = '128MB'`);
     const config = await loadStudyConfig(tx, payload.studyId);
     if (!config || config.arms.length < 2) return null;
     const [state] = await rows<{
@@ -162,16 +162,6 @@ async function runInTransaction(
         snapshotId, config.id, now, kind, payload.reason, config.designVersion, built.enrolled,
         JSON.stringify(built.body), JSON.stringify(built.pooled), JSON.stringify(built.trend),
       ],
-    );
-    await tx.query(
-      `INSERT INTO balance_snapshot_site (snapshot_id, site_id, result)
-       SELECT $1, x.site_id, x.result FROM jsonb_to_recordset($2::jsonb) AS x(site_id uuid, result jsonb)`,
-      [snapshotId, JSON.stringify([...built.sites].map(([siteId, result]) => ({ site_id: siteId, result })))],
-    );
-    await tx.query(
-      `DELETE FROM balance_snapshot_site WHERE snapshot_id IN (
-         SELECT id FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC OFFSET $2)`,
-      [config.id, SITE_DETAIL_SNAPSHOTS_KEPT],
     );
     await tx.query(
       `INSERT INTO balance_state (study_id, design_version, covariate_fingerprint, last_full_at, changes_since_full, quantiles, quantiles_computed_at, updated_at)

@@ -6,7 +6,7 @@ import {
   type Weighting,
 } from '@counterpoise/contracts/balance';
 import type { AccumulatorSet } from './balance-accumulators.js';
-import { chanceCrossings, covariateBalance, scopeCells, type QuantileSet } from './balance-compute.js';
+import { allScopes, chanceCrossings, covariateBalance, scopeCells, type QuantileSet } from './balance-compute.js';
 import { CHANCE_LEVEL, type StudyConfig } from './balance-config.js';
 
 /** What the recompute stores: the arm-level view (minus freshness), per-site details, the pooled view and the trend. */
@@ -52,7 +52,8 @@ export function buildSnapshot(
 ): { body: SnapshotBody; sites: Map<string, SnapshotBody>; pooled: PooledBody; trend: Trend; enrolled: number } {
   const rules = rulesOf(config);
   const ref = config.arms[0]!;
-  const overall = scopeCells(set, null);
+  const scopes = allScopes(set);
+  const overall = scopes.overall;
   const enrolled = [...overall.participants.values()].reduce((s, n) => s + n, 0);
   const covariates = config.covariates.map((cov) => ({
     key: cov.key,
@@ -121,7 +122,7 @@ export function buildSnapshot(
   const sites = new Map<string, SnapshotBody>();
   const siteGrid: NonNullable<SnapshotBody['siteGrid']> = [];
   for (const site of config.sites) {
-    const cells = scopeCells(set, site.id);
+    const cells = scopes.bySite.get(site.id) ?? scopeCells(set, site.id);
     const counts = siteCounts(site.id, cells.participants);
     // Per-site medians are not kept (only mean and SD): quantiles are for the overall table.
     const siteCovariates = config.covariates.map((cov) => ({

@@ -24,11 +24,14 @@ import type { PooledBody, TrendPoint } from './balance-snapshot.js';
 import {
   alertDto,
   alertSelect,
+  armsText,
   baselinePValues,
   baselineTable,
   freshness,
-  latestArmsText,
+  latestHead,
   listAlerts,
+  pooledText,
+  type SnapshotHead,
 } from './balance.service.js';
 import './balance.operations.js';
 
@@ -58,11 +61,18 @@ function sendWithFreshness(res: Response, fresh: object, storedJson: string): vo
   res.type('application/json').send(`{"freshness":${JSON.stringify(fresh)},${storedJson.slice(1)}`);
 }
 
+const freshnessOf = (head: SnapshotHead) => ({
+  computedAt: head.computedAt.toISOString(),
+  recomputePending: head.pending,
+  enrolledCount: head.enrolled,
+});
+
 async function latestArmsView(ctx: AppContext, studyId: string, siteId: string | null): Promise<BalanceArmsView> {
-  const latest = await latestArmsText(ctx.ds, studyId, siteId);
-  if (!latest) return noSnapshot(ctx, studyId);
-  const stored = JSON.parse(latest.text) as Omit<BalanceArmsView, 'freshness'>;
-  return { ...stored, freshness: await freshness(ctx.ds, studyId, latest.computedAt, latest.enrolled) };
+  const head = await latestHead(ctx.ds, studyId);
+  const text = head ? await armsText(ctx.ds, studyId, siteId, head) : null;
+  if (!head || !text) return noSnapshot(ctx, studyId);
+  const stored = JSON.parse(text) as Omit<BalanceArmsView, 'freshness'>;
+  return { ...stored, freshness: freshnessOf(head) };
 }
 
 export function balanceRoutes(ctx: AppContext): Router {
@@ -74,25 +84,24 @@ export function balanceRoutes(ctx: AppContext): Router {
     const q = query(req, balanceQuerySchema);
     await assertSite(ctx, studyId, q.site);
     const arms = q.view ? q.view === 'arms' : access.permissions.includes('balance.arms');
+    if (arms) requireArms(access);
+    const head = await latestHead(ctx.ds, studyId);
+    if (!head) return noSnapshot(ctx, studyId);
     if (arms) {
-      requireArms(access);
-      const latest = await latestArmsText(ctx.ds, studyId, q.site ?? null);
-      if (!latest) return noSnapshot(ctx, studyId);
-      sendWithFreshness(res, await freshness(ctx.ds, studyId, latest.computedAt, latest.enrolled), latest.text);
+      const text = await armsText(ctx.ds, studyId, q.site ?? null, head);
+      if (!text) return noSnapshot(ctx, studyId);
+      sendWithFreshness(res, freshnessOf(head), text);
       return;
     }
-    // Pooled and blinded: read from the pooled column only, which carries no arm.
-    const [p] = await rows<{ computed_at: Date; enrolled_count: number; pooled: PooledBody }>(
-      ctx.ds,
-      `SELECT computed_at, enrolled_count, pooled FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
-      [studyId],
-    );
-    if (!p) return noSnapshot(ctx, studyId);
-    const view: BalancePooledView = {
-      ...p.pooled,
-      sites: q.site ? p.pooled.sites.filter((s) => s.siteId === q.site) : p.pooled.sites,
-      freshness: await freshness(ctx.ds, studyId, p.computed_at, p.enrolled_count),
-    };
+    // Pooled and blinded: from the pooled column only, which carries no arm.
+    const text = await pooledText(ctx.ds, studyId, head);
+    if (!text) return noSnapshot(ctx, studyId);
+    if (!q.site) {
+      sendWithFreshness(res, freshnessOf(head), text);
+      return;
+    }
+    const pooled = JSON.parse(text) as PooledBody;
+    const view: BalancePooledView = { ...pooled, sites: pooled.sites.filter((s) => s.siteId === q.site), freshness: freshnessOf(head) };
     res.json(view);
   });
 
@@ -114,8 +123,9 @@ export function balanceRoutes(ctx: AppContext): Router {
         ORDER BY b.computed_at`,
       q.site ? [studyId, limit, q.site] : [studyId, limit],
     );
-    const latest = await latestArmsText(ctx.ds, studyId, null);
-    const meta = latest ? (JSON.parse(latest.text) as Omit<BalanceArmsView, 'freshness'>) : null;
+    const head = await latestHead(ctx.ds, studyId);
+    const latestText = head ? await armsText(ctx.ds, studyId, null, head) : null;
+    const meta = latestText ? (JSON.parse(latestText) as Omit<BalanceArmsView, 'freshness'>) : null;
     const series: BalanceHistory['series'] = [];
     for (const cov of meta?.covariates ?? []) {
       for (const cmp of cov.balance.comparisons) {
@@ -136,7 +146,7 @@ export function balanceRoutes(ctx: AppContext): Router {
       }
     }
     const out: BalanceHistory = {
-      freshness: await freshness(ctx.ds, studyId, latest?.computedAt ?? null, latest?.enrolled ?? null),
+      freshness: head ? freshnessOf(head) : await freshness(ctx.ds, studyId, null, null),
       arms: meta?.arms ?? [],
       referenceArmId: meta?.referenceArmId ?? null,
       comparisonNote: meta?.comparisonNote ?? null,

@@ -7,7 +7,10 @@ import {
   type Freshness,
 } from '@counterpoise/contracts/balance';
 import { oneWayAnova } from '@counterpoise/stats';
-import { armSql, codeValue, rows, type Queryable } from './balance-config.js';
+import type { DataSource } from 'typeorm';
+import { loadAccumulators } from './balance-accumulators.js';
+import { armSql, codeValue, loadStudyConfig, rows, type Queryable } from './balance-config.js';
+import { buildSnapshot, type SnapshotBody } from './balance-snapshot.js';
 
 /** Queued or running recompute jobs of this study (pg-boss keeps them in its own schema). */
 export async function recomputePending(db: Queryable, studyId: string): Promise<boolean> {
@@ -30,27 +33,74 @@ export async function freshness(db: Queryable, studyId: string, computedAt: Date
   };
 }
 
-/** The latest snapshot's stored arm-level view as JSON text (overall, or one site's detail). */
-export async function latestArmsText(
-  db: Queryable,
-  studyId: string,
-  siteId: string | null,
-): Promise<{ computedAt: Date; enrolled: number; text: string } | null> {
-  const [r] = siteId
-    ? await rows<{ computed_at: Date; enrolled_count: number; text: string }>(
-        db,
-        `SELECT s.computed_at, s.enrolled_count, x.result::text AS text
-           FROM balance_snapshot s JOIN balance_snapshot_site x ON x.snapshot_id = s.id AND x.site_id = $2
-          WHERE s.study_id = $1 ORDER BY s.computed_at DESC LIMIT 1`,
-        [studyId, siteId],
-      )
-    : await rows<{ computed_at: Date; enrolled_count: number; text: string }>(
-        db,
-        `SELECT computed_at, enrolled_count, result::text AS text FROM balance_snapshot
-          WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
+export type SnapshotHead = { id: string; computedAt: Date; enrolled: number; pending: boolean };
+
+/** The latest snapshot's id and time, and whether a recompute is pending, in one round trip. */
+export async function latestHead(db: Queryable, studyId: string): Promise<SnapshotHead | null> {
+  const [r] = await rows<{ id: string; computed_at: Date; enrolled_count: number; pending: boolean }>(
+    db,
+    `SELECT s.id, s.computed_at, s.enrolled_count,
+            EXISTS (SELECT 1 FROM pgboss.job j WHERE j.name = 'balance.recompute' AND j.singleton_key IN ($2, 'full:' || $2)
+                      AND j.state IN ('created', 'retry', 'active')) AS pending
+       FROM balance_snapshot s WHERE s.study_id = $1 ORDER BY s.computed_at DESC LIMIT 1`,
+    [studyId, studyId],
+  );
+  return r ? { id: r.id, computedAt: r.computed_at, enrolled: r.enrolled_count, pending: r.pending } : null;
+}
+
+/**
+ * Stored snapshot texts by snapshot id: a snapshot never changes once written, so the hot
+ * GET /balance path only checks which snapshot is the latest and sends the cached text.
+ */
+const textCache = new Map<string, { snapshotId: string; text: string }>();
+const CACHE_ENTRIES = 200;
+
+async function cached(key: string, snapshotId: string, load: () => Promise<string | null>): Promise<string | null> {
+  const hit = textCache.get(key);
+  if (hit && hit.snapshotId === snapshotId) return hit.text;
+  const text = await load();
+  if (text === null) return null;
+  if (textCache.size >= CACHE_ENTRIES) textCache.delete(textCache.keys().next().value as string);
+  textCache.set(key, { snapshotId, text });
+  return text;
+}
+
+/** The arm-level view of snapshot `head` as JSON text: stored for the overall scope, rebuilt from the accumulators for one site. */
+export async function armsText(ds: DataSource, studyId: string, siteId: string | null, head: SnapshotHead): Promise<string | null> {
+  if (!siteId) {
+    return cached(`${studyId}|arms`, head.id, async () => {
+      const [r] = await rows<{ text: string }>(ds, `SELECT result::text AS text FROM balance_snapshot WHERE id = $1`, [head.id]);
+      return r?.text ?? null;
+    });
+  }
+  return cached(`${studyId}|arms|${siteId}`, head.id, async () => {
+    // One consistent read: the accumulators are written in the same transaction as the snapshot.
+    const built = await ds.transaction('REPEATABLE READ', async (tx) => {
+      const [meta] = await rows<{ meta: SnapshotBody['snapshot'] }>(
+        tx,
+        `SELECT result -> 'snapshot' AS meta FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
         [studyId],
       );
-  return r ? { computedAt: r.computed_at, enrolled: r.enrolled_count, text: r.text } : null;
+      const config = await loadStudyConfig(tx, studyId);
+      if (!meta || !config) return null;
+      const set = await loadAccumulators(tx, studyId, siteId);
+      return buildSnapshot(
+        config,
+        set,
+        null,
+        { id: meta.meta.id, computedAt: meta.meta.computedAt, kind: meta.meta.kind, reason: meta.meta.reason, quantilesComputedAt: meta.meta.quantilesComputedAt },
+        null,
+      ).sites.get(siteId);
+    });
+    return built ? JSON.stringify(built) : null;
+  });
+}
+
+export async function pooledText(db: Queryable, studyId: string, head: SnapshotHead): Promise<string | null> {
+  return cached(`${studyId}|pooled`, head.id, async () => {
+    const [r] = await rows<{ text: string }>(db, `SELECT pooled::text AS text FROM balance_snapshot WHERE id = $1`, [head.id]);
+    return r?.text ?? null;
+  });
 }
 
 type AlertRow = {

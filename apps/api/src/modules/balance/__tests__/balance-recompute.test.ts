@@ -8,6 +8,7 @@ import {
 import type { BalanceArmsView } from '@counterpoise/contracts/balance';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestContext, type TestContext } from '../../../test/harness.js';
+import { armsText, latestHead } from '../balance.service.js';
 import {
   correct,
   createBalanceStudy,
@@ -54,16 +55,16 @@ function close(actual: number | null, expected: number, what: string, tol = 1e-9
   expect(delta, `${what}: expected ${expected}, got ${actual}, delta ${delta}`).toBeLessThanOrEqual(tol * Math.max(1, Math.abs(expected)));
 }
 
-async function latest(t: TestContext, studyId: string): Promise<{ body: BalanceArmsView; kind: string; sites: Map<string, BalanceArmsView> }> {
+async function latest(t: TestContext, study: BalanceStudy): Promise<{ body: BalanceArmsView; kind: string; sites: Map<string, BalanceArmsView> }> {
   const [s] = await t.ownerQuery<{ id: string; result: BalanceArmsView; kind: string }>(
     `SELECT id, result, kind FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
-    [studyId],
+    [study.id],
   );
-  const sites = await t.ownerQuery<{ site_id: string; result: BalanceArmsView }>(
-    `SELECT site_id, result FROM balance_snapshot_site WHERE snapshot_id = $1`,
-    [s!.id],
-  );
-  return { body: s!.result, kind: s!.kind, sites: new Map(sites.map((r) => [r.site_id, r.result])) };
+  // Site views are rebuilt from the stored accumulators, as GET /balance?site= does.
+  const head = (await latestHead(t.ctx.ds, study.id))!;
+  const sites = new Map<string, BalanceArmsView>();
+  for (const siteId of study.siteIds) sites.set(siteId, JSON.parse((await armsText(t.ctx.ds, study.id, siteId, head))!) as BalanceArmsView);
+  return { body: s!.result, kind: s!.kind, sites };
 }
 
 /** Checks one scope's covariates against a direct computation on `rows`. */
@@ -173,7 +174,7 @@ describe('balance.recompute job', () => {
         ids.push(...(await enroll(t, study, Array.from({ length: 5 }, () => person(r, 3, 2)))));
       }
       await runJob(t, { studyId: study.id, reason: 'change' });
-      const snap = await latest(t, study.id);
+      const snap = await latest(t, study);
       kinds.push(snap.kind);
       const stored = await readCounted(t, study);
       expect(snap.body.snapshot.enrolledCount).toBe(stored.length);
@@ -209,7 +210,7 @@ describe('balance.recompute job', () => {
     const r = rng(77);
     await enroll(t, study, Array.from({ length: 90 }, () => person(r, 2, 3, 2)));
     await runJob(t, { studyId: study.id, reason: 'import' });
-    const snap = await latest(t, study.id);
+    const snap = await latest(t, study);
     expect(snap.body.referenceArmId).toBe(study.armIds[0]);
     expect(snap.body.comparisonNote).toMatch(/pairwise with the reference arm A/);
     for (const c of snap.body.covariates) expect(c.balance.comparisons.map((x) => x.armId)).toEqual(study.armIds.slice(1));
