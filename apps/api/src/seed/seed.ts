@@ -3,6 +3,7 @@ import bcrypt from 'bcryptjs';
 import { loadEnv } from '../config/env.js';
 import { createDataSource } from '../db/data-source.js';
 import { createJobQueue } from '../jobs/queue.js';
+import { seedAnalysis } from './seed-analysis.js';
 import { seedDemo } from './seed-demo.js';
 
 const env = loadEnv();
@@ -13,6 +14,7 @@ try {
   const jobs = await createJobQueue(env);
   const summary = await seedDemo(ds, hash, jobs).finally(() => jobs.stop());
   console.log(summary.created ? `Demo data created: ${summary.detail}` : 'Demo data already present; nothing added.');
+  console.log((await seedAnalysis(ds)).detail);
 } finally {
   await ds.destroy();
 }
