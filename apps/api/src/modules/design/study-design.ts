@@ -43,24 +43,25 @@ export type StudyDesign = {
   alertRules: AlertRules;
 };
 
-// Designs change rarely and enrollments read them constantly: cache by (study, design_version).
-const cache = new Map<string, StudyDesign>();
+// Designs change rarely and enrollments read them constantly: cache by the study row's
+// updated_at, which every design save sets (other processes' saves included).
+const cache = new Map<string, { stamp: string; design: StudyDesign }>();
 
 /** `lock: true` takes FOR KEY SHARE on the study row, so a design save (FOR UPDATE) waits for this transaction. */
 export async function loadDesign(q: Queryable, studyId: string, opts: { lock?: boolean } = {}): Promise<StudyDesign> {
   const rows: (Omit<StudyDesign, 'arms' | 'sites' | 'covariates' | 'screeningQuestions' | 'eligibility' | 'allocation' | 'alertRules'> & {
     design: StoredDesign;
+    updatedAt: string;
   })[] = await q.query(
     `SELECT id, code, title, kind, blinding, status, target_sample_size AS "targetSampleSize",
-            design_version AS "designVersion", design FROM study WHERE id = $1${opts.lock ? ' FOR KEY SHARE' : ''}`,
+            design_version AS "designVersion", design, updated_at::text AS "updatedAt" FROM study WHERE id = $1${opts.lock ? ' FOR KEY SHARE' : ''}`,
     [studyId],
   );
   const s = rows[0];
   if (!s) throw notFound('Study');
+  const stamp = `${s.updatedAt}|${s.designVersion}|${s.status}|${s.targetSampleSize}`;
   const cached = cache.get(studyId);
-  if (cached && cached.designVersion === s.designVersion && cached.status === s.status && cached.targetSampleSize === s.targetSampleSize) {
-    return cached;
-  }
+  if (cached && cached.stamp === stamp) return cached.design;
   // Sequential: inside a transaction these share one connection.
   const arms: ArmRecord[] = await q.query(`SELECT id, code, name, ratio, position FROM arm WHERE study_id = $1 ORDER BY position, code`, [studyId]);
   const sites: SiteRecord[] = await q.query(
@@ -92,7 +93,7 @@ export async function loadDesign(q: Queryable, studyId: string, opts: { lock?: b
     allocation: s.design.allocation ?? null,
     alertRules: s.design.alertRules ?? defaultAlertRules,
   };
-  cache.set(studyId, design);
+  cache.set(studyId, { stamp, design });
   return design;
 }
 

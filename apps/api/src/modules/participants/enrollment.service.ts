@@ -34,16 +34,20 @@ export type ValidEnrollment = Omit<EnrollmentInput, 'baseline' | 'enrollmentDate
   siteCode: string;
 };
 
-type SchemaCache = { key: string; schema: ReturnType<typeof buildBaselineSchema> };
-const schemaCache = new Map<string, SchemaCache>();
+// Keyed by the loaded design object: loadDesign hands out a new one whenever the design changes.
+const schemaCache = new WeakMap<StudyDesign, Map<string, ReturnType<typeof buildBaselineSchema>>>();
 
-/** The generated baseline schema for one design version and enrollment date (cached: imports validate thousands of rows). */
+/** The generated baseline schema for one design and enrollment date (cached: imports validate thousands of rows). */
 function baselineSchema(design: StudyDesign, enrollmentDate: string, today: string) {
-  const key = `${design.designVersion}|${enrollmentDate}|${today}`;
-  const hit = schemaCache.get(design.id);
-  if (hit?.key === key) return hit.schema;
-  const schema = buildBaselineSchema(design.covariates, { enrollmentDate, today });
-  schemaCache.set(design.id, { key, schema });
+  let byDate = schemaCache.get(design);
+  if (!byDate) schemaCache.set(design, (byDate = new Map()));
+  const key = `${enrollmentDate}|${today}`;
+  let schema = byDate.get(key);
+  if (!schema) {
+    if (byDate.size > 2000) byDate.clear();
+    schema = buildBaselineSchema(design.covariates, { enrollmentDate, today });
+    byDate.set(key, schema);
+  }
   return schema;
 }
 

@@ -99,6 +99,19 @@ describe('PUT /studies/:studyId/design', () => {
     expect(await counts(t)).toEqual(before);
   });
 
+  it('when a study is read before its first design save, then enrollment afterwards uses the saved design (no stale cache)', async () => {
+    const { createStudy } = await import('../../../test/harness.js');
+    const fresh = await createStudy(t, { sites: ['S1', 'S2'], arms: ['A', 'B'] });
+    const coord = await createUser(t, { memberships: [{ studyId: fresh.id, role: 'coordinator', siteIds: [fresh.siteIds[0]!] }] });
+    const stat = await createUser(t, { memberships: [{ studyId: fresh.id, role: 'statistician' }] });
+    const [ca, sa] = [await signIn(t, coord.email), await signIn(t, stat.email)];
+    const early = await ca.post(`/api/studies/${fresh.id}/participants`).send(enrollBody(fresh.siteIds[0]!));
+    expect(early.status).toBe(400);
+    expect((await sa.put(`/api/studies/${fresh.id}/design`).send(trialDesign())).status).toBe(200);
+    const later = await ca.post(`/api/studies/${fresh.id}/participants`).send(enrollBody(fresh.siteIds[0]!));
+    expect(later.status, JSON.stringify(later.body)).toBe(201);
+  });
+
   it('when a cohort is given a randomization scheme, then 400', async () => {
     const res = await c.statistician.put(`/api/studies/${c.studyId}/design`).send(trialDesign({ allocation: { method: 'exposure_recorded', weighting: { estimand: 'ATE' } } }));
     expect(res.status).toBe(400);
