@@ -32,6 +32,7 @@ import { createRequire } from 'node:module';
 
 type JStat = {
   ibeta(x: number, a: number, b: number): number;
+  gammaln(x: number): number;
   erfc(x: number): number;
   lowRegGamma(a: number, x: number): number;
   normal: { inv(p: number, mean: number, sd: number): number };
@@ -101,11 +102,57 @@ export function tCdf(t: number, df: number): number {
   return t < 0 ? tail : 1 - tail;
 }
 
-/** Student t quantile: the t with P(T <= t) = p. */
+/**
+ * P(|T| <= t), t >= 0, for an integer df by the finite series of Abramowitz & Stegun 26.7.3
+ * (df odd) and 26.7.4 (df even), with theta = atan(t / sqrt(df)):
+ *   odd:  (2/pi) [theta + sin(theta) (cos(theta) + (2/3) cos^3(theta) + ... )]   (df > 1)
+ *   even: sin(theta) [1 + (1/2) cos^2(theta) + (1*3)/(2*4) cos^4(theta) + ...]
+ * Positive terms only, so it is accurate to rounding (jstat's incomplete beta stops at ~1e-7).
+ */
+function tCentralIntegerDf(t: number, df: number): number {
+  const theta = Math.atan(t / Math.sqrt(df));
+  const c2 = Math.cos(theta) ** 2;
+  const sin = Math.sin(theta);
+  if (df % 2 === 1) {
+    if (df === 1) return (2 / Math.PI) * theta;
+    let term = Math.cos(theta);
+    let sum = term;
+    for (let k = 3; k <= df - 2; k += 2) {
+      term *= (c2 * (k - 1)) / k;
+      sum += term;
+    }
+    return (2 / Math.PI) * (theta + sin * sum);
+  }
+  let term = 1;
+  let sum = 1;
+  for (let k = 2; k <= df - 2; k += 2) {
+    term *= (c2 * (k - 1)) / k;
+    sum += term;
+  }
+  return sin * sum;
+}
+
+/**
+ * Student t quantile: the t with P(T <= t) = p. jstat's inverse (about 1e-8 relative) is
+ * polished, for integer df up to 1e7 and 1e-6 < p < 1 - 1e-6, by Newton steps on the exact
+ * series CDF above, which gives confidence limits to about 1e-14 relative (checked against
+ * scipy.stats.t.ppf).
+ */
 export function tQuantile(p: number, df: number): number {
   checkProbability('tQuantile', p);
   checkDf('tQuantile', 'df', df);
-  return jStat.studentt.inv(p, df);
+  let x = jStat.studentt.inv(p, df);
+  if (!Number.isInteger(df) || df > 1e7 || !(p > 1e-6 && p < 1 - 1e-6) || p === 0.5) return p === 0.5 ? 0 : x;
+  const logNorm = jStat.gammaln((df + 1) / 2) - jStat.gammaln(df / 2) - 0.5 * Math.log(df * Math.PI);
+  for (let i = 0; i < 3; i++) {
+    const a = tCentralIntegerDf(Math.abs(x), df);
+    const cdf = x >= 0 ? 0.5 + a / 2 : (1 - a) / 2;
+    const density = Math.exp(logNorm - ((df + 1) / 2) * Math.log1p((x * x) / df));
+    const step = (cdf - p) / density;
+    x -= step;
+    if (Math.abs(step) <= 1e-15 * Math.abs(x)) break;
+  }
+  return x;
 }
 
 const INV_SQRT_2PI = 0.3989422804014327;

@@ -47,7 +47,7 @@ export function throwFirstNonFinite(fn: string, name: string, values: ArrayLike<
  * Validates a numeric array: array-like, at least `minLength` entries, every entry a finite
  * number. Returns the sum (useful as the first pass of a two-pass mean).
  */
-export function checkedSum(fn: string, name: string, values: unknown, minLength = 1): number {
+export function checkedSum(fn: string, name: string, values: unknown, minLength = 1, allowBooleans = false): number {
   assertArrayLike(fn, name, values);
   const n = values.length;
   if (n < minLength) {
@@ -59,7 +59,19 @@ export function checkedSum(fn: string, name: string, values: unknown, minLength 
   for (let i = 0; i < n; i++) s += xs[i] as number;
   // A NaN, an Infinity or a non-number (string concatenation, undefined) all leave `s` non-finite.
   if (typeof s !== 'number' || !Number.isFinite(s)) throwFirstNonFinite(fn, name, xs);
+  // null and booleans add as 0/1 without a trace: look for them (typed arrays cannot hold them).
+  if (!ArrayBuffer.isView(values)) checkAllNumbers(fn, name, values, allowBooleans);
   return s;
+}
+
+/** Throws TypeError for the first entry that is not a number (booleans allowed when asked). */
+function checkAllNumbers(fn: string, name: string, values: ArrayLike<unknown>, allowBooleans: boolean): void {
+  for (let i = 0; i < values.length; i++) {
+    const t = typeof values[i];
+    if (t !== 'number' && !(allowBooleans && t === 'boolean')) {
+      throw new TypeError(`${fn}: ${name}[${i}] must be a number, got ${describe(values[i])}`);
+    }
+  }
 }
 
 export type WeightSums = { sum: number; sumSquares: number };
@@ -86,6 +98,7 @@ export function checkedWeights(fn: string, name: string, weights: unknown, expec
     if (w < 0 && negative < 0) negative = i;
   }
   if (typeof s !== 'number' || !Number.isFinite(s) || !Number.isFinite(s2)) throwFirstNonFinite(fn, name, ws);
+  if (!ArrayBuffer.isView(weights)) checkAllNumbers(fn, name, ws, false);
   if (negative >= 0) {
     throw new RangeError(`${fn}: ${name}[${negative}] must be non-negative, got ${String(ws[negative])}`);
   }

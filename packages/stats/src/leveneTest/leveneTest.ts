@@ -8,7 +8,8 @@ import { fCdfUpper } from '../distributions/distributions.js';
  *   W = [(N - k) / (k - 1)] * sum_i n_i (zbar_i - zbar)^2 / sum_i sum_j (z_ij - zbar_i)^2
  * i.e. the one-way ANOVA F on the absolute deviations, referred to F(k - 1, N - k).
  * The default centre is the median: the e-Handbook recommends it, being robust to
- * non-normality. Means and sums of squares are computed two-pass on the deviations.
+ * non-normality. Values are first shifted by one data value; means and sums of squares are
+ * computed two-pass on the deviations.
  *
  * Checked against the e-Handbook gear-diameter example (W = 1.705910, median) and scipy
  * 1.17.1 `stats.levene` on generated data.
@@ -71,7 +72,11 @@ export function leveneTest(groups: ArrayLike<number>[], options: { center?: Leve
   if (center !== 'mean' && center !== 'median') {
     throw new RangeError(`${FN}: options.center must be 'mean' or 'median', got ${JSON.stringify(center)}`);
   }
-  const z = groups.map((g) => {
+  // Work on y - shift (shift = the first value; exact for values near it) so that a large
+  // common offset does not cost digits in the centre (a rounded mean or (a + b) / 2 median).
+  const shift = (groups[0] as ArrayLike<number>)[0] as number;
+  const z = groups.map((g0) => {
+    const g = Float64Array.from({ length: g0.length }, (_, j) => (g0[j] as number) - shift);
     const c = center === 'mean' ? twoPassMean(g) : median(g);
     return Float64Array.from({ length: g.length }, (_, j) => Math.abs((g[j] as number) - c));
   });

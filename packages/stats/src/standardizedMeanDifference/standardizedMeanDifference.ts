@@ -37,7 +37,8 @@ const KINDS: readonly SmdKind[] = ['continuous', 'binary'];
  *
  * Missing values are not accepted here: drop them first (and report them via `summarize`).
  *
- * @throws {TypeError} an input is not an array of numbers, or options are missing.
+ * @throws {TypeError} an input is not an array of numbers (null or a boolean is not a number; booleans
+ *   are accepted for kind 'binary'), or options are missing.
  * @throws {RangeError} an arm is empty (binary) or has fewer than two values (continuous); a value
  *   or weight is not finite; weights are negative, all zero, or of the wrong length; a binary value
  *   is not 0/1; `kind` is unknown; the pooled variance is zero (the SMD is undefined).
@@ -55,8 +56,13 @@ export function standardizedMeanDifference(
   }
   const kind = checkOption(FN, 'options.kind', options.kind, KINDS);
   const minLength = kind === 'continuous' ? 2 : 1;
-  const t = armMoments(FN, 'treated', treated, options.weightsTreated, 'options.weightsTreated', minLength);
-  const c = armMoments(FN, 'control', control, options.weightsControl, 'options.weightsControl', minLength);
+  const binary = kind === 'binary';
+  // One shift for both arms, so the difference of means keeps its digits for a large common
+  // offset; symmetric in the arms so that swapping them flips the sign exactly. (A non-number
+  // here is reported by the validation inside armMoments.)
+  const shift = binary ? 0 : (treated?.[0] as number) / 2 + (control?.[0] as number) / 2;
+  const t = armMoments(FN, 'treated', treated, options.weightsTreated, 'options.weightsTreated', minLength, binary, shift);
+  const c = armMoments(FN, 'control', control, options.weightsControl, 'options.weightsControl', minLength, binary, shift);
   let vT: number;
   let vC: number;
   if (kind === 'binary') {
@@ -68,7 +74,7 @@ export function standardizedMeanDifference(
     vT = armVariance(FN, 'treated', t);
     vC = armVariance(FN, 'control', c);
   }
-  return smdFromMoments(FN, t.mean, vT, c.mean, vC);
+  return smdFromMoments(FN, t.shiftedMean, vT, c.shiftedMean, vC);
 }
 
 function smdFromMoments(fn: string, meanT: number, varT: number, meanC: number, varC: number): number {

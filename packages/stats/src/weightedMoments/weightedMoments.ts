@@ -25,6 +25,9 @@ export type ArmMoments = {
   sumWeights: number;
   sumSquaredWeights: number;
   mean: number;
+  /** The shift K the moments were taken about, and mean - K as computed (no rounding at K's scale). */
+  shift: number;
+  shiftedMean: number;
   /** sum w (x - mean)^2 (the "M2" of Welford); variance is derived from it. */
   sumSquaredDeviations: number;
 };
@@ -36,37 +39,45 @@ export function armMoments(
   weights: unknown,
   weightsName: string,
   minLength = 1,
+  allowBooleans = false,
+  shift?: number,
 ): ArmMoments {
-  const sum = checkedSum(fn, name, values, minLength);
+  const sum = checkedSum(fn, name, values, minLength, allowBooleans);
   const xs = values as ArrayLike<number>;
   const n = xs.length;
+  // Moments about a shift K (default: this arm's first value), so that a large common offset
+  // (1e9 + N(0, 1)) does not cost digits to the rounding of the mean: x - K is exact near K.
+  // The first-pass mean m0 is rough; the correction term fixes it (Chan, Golub & LeVeque).
+  const k = shift ?? +(xs[0] as number);
   if (weights === undefined) {
-    const m = sum / n;
+    const m0 = sum / n - k;
     let ss = 0;
     let comp = 0;
     for (let i = 0; i < n; i++) {
-      const d = (xs[i] as number) - m;
+      const d = (xs[i] as number) - k - m0;
       ss += d * d;
       comp += d;
     }
     ss -= (comp * comp) / n;
-    return { n, sumWeights: n, sumSquaredWeights: n, mean: m, sumSquaredDeviations: aboveNoise(ss, n, m) };
+    const rel = m0 + comp / n;
+    return { n, sumWeights: n, sumSquaredWeights: n, mean: k + rel, shift: k, shiftedMean: rel, sumSquaredDeviations: aboveNoise(ss, n, k + rel) };
   }
   const { sum: sw, sumSquares: sw2 } = checkedWeights(fn, weightsName, weights, n, name);
   const ws = weights as ArrayLike<number>;
   let swx = 0;
-  for (let i = 0; i < n; i++) swx += (ws[i] as number) * (xs[i] as number);
-  const m = swx / sw;
+  for (let i = 0; i < n; i++) swx += (ws[i] as number) * ((xs[i] as number) - k);
+  const m0 = swx / sw;
   let ss = 0;
   let comp = 0;
   for (let i = 0; i < n; i++) {
     const w = ws[i] as number;
-    const d = (xs[i] as number) - m;
+    const d = (xs[i] as number) - k - m0;
     ss += w * d * d;
     comp += w * d;
   }
   ss -= (comp * comp) / sw;
-  return { n, sumWeights: sw, sumSquaredWeights: sw2, mean: m, sumSquaredDeviations: aboveNoise(ss, sw, m) };
+  const rel = m0 + comp / sw;
+  return { n, sumWeights: sw, sumSquaredWeights: sw2, mean: k + rel, shift: k, shiftedMean: rel, sumSquaredDeviations: aboveNoise(ss, sw, k + rel) };
 }
 
 /**

@@ -29,3 +29,10 @@ describe('effectiveSampleSize (Kish 1965: (sum w)^2 / sum w^2)', () => {
     expect(() => effectiveSampleSize(input as number[])).toThrow(message);
   });
 });
+
+describe('effectiveSampleSize: non-numbers', () => {
+  it('rejects a null weight with TypeError (it used to count as 0)', () => {
+    expect(() => effectiveSampleSize([1, null, 3] as unknown as number[])).toThrow(TypeError);
+    expect(() => effectiveSampleSize([1, null, 3] as unknown as number[])).toThrow(/weights\[1\] must be a number, got null/);
+  });
+});

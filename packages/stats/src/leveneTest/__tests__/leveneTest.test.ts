@@ -80,3 +80,17 @@ describe('leveneTest bad input', () => {
     expect(() => leveneTest([[1, 1, 1], [4, 4, 4]], { center: 'mean' })).toThrow(/do not vary/);
   });
 });
+
+describe('leveneTest: a large common offset', () => {
+  // Reference: scipy 1.17.1 stats.levene on x - 1e9 (the subtraction is exact for these doubles,
+  // Sterbenz), centre mean 0.3768937490762951, median 0.3655189380748321. Without the shift the
+  // rounded group means left W 5.8e-8 relative off (found by the independent scipy cross-check).
+  const offsetT = [999999999.6348306, 1000000000.326041, 1000000000.097701, 999999997.8596439, 999999997.5947006, 1000000000.7946707, 1000000000.5231246, 999999998.1150738, 999999999.2232553];
+const offsetC = [1000000000.2888099, 999999999.319784, 1000000003.1020355, 1000000000.5117075, 1000000000.9522128, 1000000000.3644332, 999999999.7238802];
+  it.each([
+    ['mean', 0.3768937490762951],
+    ['median', 0.3655189380748321],
+  ] as const)('centre %s to 1e-12 relative for values near 1e9', (center, w) => {
+    expect(Math.abs(leveneTest([offsetT, offsetC], { center }).statistic - w) / w).toBeLessThan(1e-12);
+  });
+});

@@ -58,7 +58,9 @@ describe('propensityWeights: formulas', () => {
   it('stabilization leaves weighted SMDs unchanged (property)', () => {
     fc.assert(
       fc.property(
-        fc.array(fc.tuple(fc.double({ min: 0.05, max: 0.95, noNaN: true }), fc.constantFrom(0, 1), fc.double({ min: -10, max: 10, noNaN: true })), { minLength: 6, maxLength: 40 }),
+        // Subnormal covariate values (e.g. 5e-324) square to 0, so an arm of them has no variance and
+        // the SMD rightly throws; they are not what this property is about.
+        fc.array(fc.tuple(fc.double({ min: 0.05, max: 0.95, noNaN: true }), fc.constantFrom(0, 1), fc.double({ min: -10, max: 10, noNaN: true }).filter((x) => x === 0 || Math.abs(x) > 1e-150)), { minLength: 6, maxLength: 40 }),
         fc.constantFrom<Estimand>('ATE', 'ATT'),
         (rows, estimand) => {
           const nT = rows.filter((r) => r[1] === 1).length;

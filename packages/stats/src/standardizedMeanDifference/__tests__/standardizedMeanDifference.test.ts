@@ -150,3 +150,25 @@ describe('standardizedMeanDifference: bad input', () => {
     expect(call).toThrow(message);
   });
 });
+
+describe('standardizedMeanDifference: a large common offset and non-numbers', () => {
+  // Reference: Austin (2009) formula in exact rational arithmetic (Python fractions) on these
+  // doubles, 1e9 + N(0, 1) draws: d = -1.0298101236601036. Without a common shift the rounding
+  // of the two means (ulp(1e9) = 1.2e-7) left d 2.5e-7 relative off (found by the independent
+  // scipy cross-check).
+  const offsetT = [999999999.6348306, 1000000000.326041, 1000000000.097701, 999999997.8596439, 999999997.5947006, 1000000000.7946707, 1000000000.5231246, 999999998.1150738, 999999999.2232553];
+const offsetC = [1000000000.2888099, 999999999.319784, 1000000003.1020355, 1000000000.5117075, 1000000000.9522128, 1000000000.3644332, 999999999.7238802];
+  it('keeps 1e-12 relative for values near 1e9', () => {
+    const d = standardizedMeanDifference(offsetT, offsetC, { kind: 'continuous' });
+    expect(Math.abs(d - -1.0298101236601036) / 1.0298101236601036).toBeLessThan(1e-12);
+    expect(standardizedMeanDifference(offsetC, offsetT, { kind: 'continuous' })).toBe(-d);
+  });
+  it.each([
+    ['null value', () => standardizedMeanDifference([1, null, 3] as unknown as number[], [2, 3, 4], { kind: 'continuous' }), /treated\[1\] must be a number, got null/],
+    ['boolean value (continuous)', () => standardizedMeanDifference([1, 2, 3], [2, true, 4] as unknown as number[], { kind: 'continuous' }), /control\[1\] must be a number, got boolean/],
+    ['null weight', () => standardizedMeanDifference([1, 2, 3], [2, 3, 4], { kind: 'continuous', weightsControl: [1, null, 1] as unknown as number[] }), /weightsControl\[1\] must be a number, got null/],
+  ])('rejects a %s with TypeError (it used to count as 0 or 1)', (_label, call, message) => {
+    expect(call).toThrow(TypeError);
+    expect(call).toThrow(message);
+  });
+});
