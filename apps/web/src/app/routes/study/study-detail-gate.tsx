@@ -1,5 +1,5 @@
 import type { ReactNode } from 'react';
-import type { StudyDetail } from '@counterpoise/contracts/design';
+import type { StudyDetail } from '../../../lib/study-detail.js';
 import { ErrorState, LoadingState } from '../../../components/ui/states.js';
 import { useStudyDetail } from '../../../features/study-design/api/get-study-detail.js';
 

@@ -1,5 +1,5 @@
 import { useId, useRef, useState } from 'react';
-import type { StudyDetail } from '@counterpoise/contracts/design';
+import type { StudyDetail } from '../../../lib/study-detail.js';
 import type { ImportReport } from '@counterpoise/contracts/participants';
 import { Button } from '../../../components/ui/button.js';
 import { Callout } from '../../../components/ui/callout.js';
@@ -39,6 +39,15 @@ export function importColumns(study: StudyDetail): { name: string; meaning: stri
           : `one of ${(c.levels ?? []).join(', ')}`;
     cols.push({ name: c.key, meaning: `${c.label}: ${what}${c.required ? ' (required)' : ''}` });
     cols.push({ name: `${c.key}_date`, meaning: `Date ${c.label} was measured, YYYY-MM-DD` });
+  }
+  for (const q of study.screeningQuestions) {
+    const what =
+      q.kind === 'number'
+        ? 'a number'
+        : q.kind === 'binary'
+          ? 'yes or no'
+          : `one of ${(q.levels ?? []).join(', ')}`;
+    cols.push({ name: q.key, meaning: `Screening question "${q.label}": ${what}` });
   }
   return cols;
 }

@@ -1,7 +1,7 @@
 import { useEffect, useMemo, useRef, useState } from 'react';
 import { FormProvider, useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import type { StudyDetail } from '@counterpoise/contracts/design';
+import type { StudyDetail } from '../../../lib/study-detail.js';
 import { consentSchema, utcToday, type EnrollResponse } from '@counterpoise/contracts/participants';
 import { Button, ButtonLink } from '../../../components/ui/button.js';
 import { Callout } from '../../../components/ui/callout.js';

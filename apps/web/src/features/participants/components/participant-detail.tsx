@@ -1,6 +1,6 @@
 import type { ReactNode } from 'react';
 import type { z } from 'zod';
-import type { StudyDetail } from '@counterpoise/contracts/design';
+import type { StudyDetail } from '../../../lib/study-detail.js';
 import type { historyEntrySchema, ParticipantDetail } from '@counterpoise/contracts/participants';
 import { Badge } from '../../../components/ui/badge.js';
 import { Callout } from '../../../components/ui/callout.js';

@@ -1,6 +1,6 @@
 import { useState } from 'react';
 import { useForm } from 'react-hook-form';
-import type { StudyDetail } from '@counterpoise/contracts/design';
+import type { StudyDetail } from '../../../lib/study-detail.js';
 import type { ScreeningDto } from '@counterpoise/contracts/participants';
 import { Button } from '../../../components/ui/button.js';
 import { SelectField, TextField } from '../../../components/ui/field.js';

@@ -1,5 +1,6 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
-import { studyDetailSchema, type StudyCreateBody, type StudyDetail } from '@counterpoise/contracts/design';
+import type { StudyCreateBody } from '@counterpoise/contracts/design';
+import { studyDetailViewSchema as studyDetailSchema, type StudyDetail } from '../../../lib/study-detail.js';
 import { z } from 'zod';
 import { api } from '../../../lib/api-client.js';
 import { studyDetailQueryKey } from './get-study-detail.js';

@@ -1,5 +1,5 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import { designSaveResponseSchema, type StudyDetail } from '@counterpoise/contracts/design';
+import { studyDetailResponseSchema, type StudyDetail } from '../../../lib/study-detail.js';
 import { api } from '../../../lib/api-client.js';
 
 export const studyDetailQueryKey = (studyId: string) => ['studies', studyId, 'detail'] as const;
@@ -9,7 +9,7 @@ export async function getStudyDetail(studyId: string, signal?: AbortSignal): Pro
   // Same `{ study }` envelope as the design save answers.
   const { study } = await api.get(
     `/studies/${encodeURIComponent(studyId)}`,
-    designSaveResponseSchema,
+    studyDetailResponseSchema,
     signal,
   );
   return study;

@@ -1,5 +1,9 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
-import { designSaveResponseSchema, type DesignBody, type StudyDetail } from '@counterpoise/contracts/design';
+import type { DesignBody } from '@counterpoise/contracts/design';
+import {
+  studyDetailResponseSchema as designSaveResponseSchema,
+  type StudyDetail,
+} from '../../../lib/study-detail.js';
 import { api } from '../../../lib/api-client.js';
 import { studyDetailQueryKey } from './get-study-detail.js';
 

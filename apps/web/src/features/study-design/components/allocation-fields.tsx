@@ -1,5 +1,5 @@
 import { useFieldArray, useFormContext, useWatch, type UseFormRegisterReturn } from 'react-hook-form';
-import type { StudyDetail } from '@counterpoise/contracts/design';
+import { fullAllocation, type StudyDetail } from '../../../lib/study-detail.js';
 import { Button } from '../../../components/ui/button.js';
 import { Callout } from '../../../components/ui/callout.js';
 import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
@@ -68,6 +68,7 @@ export function AllocationFields({ study }: { study: StudyDetail }) {
       .map((c) => ({ key: c.key, label: c.label || c.key })),
   ];
   const randomized = study.kind === 'randomized_trial';
+  const stored = fullAllocation(study);
 
   return (
     <Card>
@@ -196,21 +197,21 @@ export function AllocationFields({ study }: { study: StudyDetail }) {
           </SelectField>
         )}
 
-        {study.allocation?.seed && (
+        {stored?.seed && (
           <dl className="grid gap-2 rounded-control border border-rule bg-paper/50 p-3 text-sm sm:grid-cols-3">
             <div>
               <dt className="text-xs font-semibold text-graphite uppercase">Algorithm</dt>
-              <dd className="figure">{study.allocation.algorithm ?? '—'}</dd>
+              <dd className="figure">{stored.algorithm ?? '—'}</dd>
             </div>
             <div>
               <dt className="text-xs font-semibold text-graphite uppercase">Version</dt>
-              <dd className="figure">{study.allocation.algorithmVersion ?? '—'}</dd>
+              <dd className="figure">{stored.algorithmVersion ?? '—'}</dd>
             </div>
             <div>
               <dt className="text-xs font-semibold text-graphite uppercase">
                 Seed (stored, for reproduction)
               </dt>
-              <dd className="figure break-all">{study.allocation.seed}</dd>
+              <dd className="figure break-all">{stored.seed}</dd>
             </div>
           </dl>
         )}

@@ -1,10 +1,6 @@
 import { z } from 'zod';
-import {
-  designBodySchema,
-  type DesignBody,
-  type EligibilityCriterion,
-  type StudyDetail,
-} from '@counterpoise/contracts/design';
+import { designBodySchema, type DesignBody, type EligibilityCriterion } from '@counterpoise/contracts/design';
+import { fullAllocation, type StudyDetail } from '../../../lib/study-detail.js';
 
 /*
  * The design form keeps what people type (lists as text, optional numbers as strings) and
@@ -126,7 +122,7 @@ function formatCriterionValue(value: EligibilityCriterion['value']): string {
 }
 
 export function draftFromStudy(study: StudyDetail): DesignDraft {
-  const a = study.allocation;
+  const a = fullAllocation(study);
   const defaultMethod = study.kind === 'observational_cohort' ? 'exposure_recorded' : 'permuted_blocks';
   return {
     targetSampleSize: study.targetSampleSize,

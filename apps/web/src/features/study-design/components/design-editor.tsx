@@ -1,7 +1,8 @@
 import { useMemo, useRef, useState } from 'react';
 import { FormProvider, useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import type { DesignBody, StudyDetail } from '@counterpoise/contracts/design';
+import type { DesignBody } from '@counterpoise/contracts/design';
+import type { StudyDetail } from '../../../lib/study-detail.js';
 import { Badge } from '../../../components/ui/badge.js';
 import { Button } from '../../../components/ui/button.js';
 import { Callout } from '../../../components/ui/callout.js';
