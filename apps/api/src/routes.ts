@@ -3,6 +3,7 @@ import type { AppContext } from './app-context.js';
 import { analysisRoutes } from './modules/analysis/analysis.routes.js';
 import { balanceRoutes } from './modules/balance/balance.routes.js';
 import { designRoutes } from './modules/design/design.routes.js';
+import { digestRoutes } from './modules/digest/digest.routes.js';
 import { participantsRoutes } from './modules/participants/participants.routes.js';
 import { uploadsRoutes } from './modules/participants/uploads.routes.js';
 
@@ -16,4 +17,5 @@ export const routeModules: ((ctx: AppContext) => Router)[] = [
   uploadsRoutes,
   balanceRoutes,
   analysisRoutes,
+  digestRoutes,
 ];

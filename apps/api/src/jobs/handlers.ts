@@ -3,6 +3,7 @@ import type { Logger } from 'pino';
 import type { AppContext } from '../app-context.js';
 import type { QueueName } from './queues.js';
 import { balanceRecomputeHandler } from '../modules/balance/balance-recompute.job.js';
+import { digestWeeklyHandler } from '../modules/digest/digest.job.js';
 
 export type JobHandler = {
   queue: QueueName;
@@ -14,6 +15,7 @@ export type JobHandler = {
 /** Every job handler the worker runs, one line per queue, added by the module that owns it. */
 export const jobHandlers: JobHandler[] = [
   balanceRecomputeHandler,
+  digestWeeklyHandler,
   {
     queue: 'mail.send',
     async handle(ctx, jobs) {
