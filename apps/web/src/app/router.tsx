@@ -12,6 +12,7 @@ import { RouteErrorBoundary } from './routes/route-error.js';
 import { SignInRoute } from './routes/sign-in.js';
 import { StudiesRoute } from './routes/studies.js';
 import { StudyAlertsRoute } from './routes/study/study-alerts.js';
+import { StudyAnalysisRoute } from './routes/study/study-analysis.js';
 import { StudyAuditRoute } from './routes/study/study-audit.js';
 import { StudyBalanceRoute } from './routes/study/study-balance.js';
 import { StudyDesignRoute } from './routes/study/study-design.js';
@@ -52,7 +53,7 @@ export const router = createBrowserRouter([
               { path: paths.participants.detail.path, element: <StudyParticipantRoute /> },
               { path: 'balance', element: <StudyBalanceRoute /> },
               { path: 'alerts', element: <StudyAlertsRoute /> },
-              { path: 'analysis', element: <StudySectionPlaceholder tab="analysis" /> },
+              { path: 'analysis', element: <StudyAnalysisRoute /> },
               { path: 'design', element: <StudyDesignRoute /> },
               { path: 'audit', element: <StudyAuditRoute /> },
               { path: '*', element: <NotFoundRoute /> },
