@@ -13,7 +13,8 @@ export type GroupLabel = string | number;
 export type AncovaInput = {
   outcome: ArrayLike<number>;
   group: ArrayLike<GroupLabel>;
-  covariates: Record<string, ArrayLike<number>>;
+  /** Default {} (no covariate). */
+  covariates?: Record<string, ArrayLike<number>>;
   weights?: ArrayLike<number> | undefined;
 };
 
@@ -135,7 +136,8 @@ export function prepareDesign(fn: string, input: AncovaInput, allowWeights: bool
     }
   });
 
-  const covs = input.covariates;
+  // Omitted covariates mean none (the one-way ANOVA as an ANCOVA table).
+  const covs = input.covariates === undefined ? {} : input.covariates;
   if (covs === null || typeof covs !== 'object' || Array.isArray(covs)) {
     throw new TypeError(`${fn}: covariates must be an object mapping names to arrays of numbers (use {} for none)`);
   }

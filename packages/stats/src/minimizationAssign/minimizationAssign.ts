@@ -6,20 +6,26 @@ import type { Rng } from '../createRng/createRng.js';
 export type ImbalanceMeasure = 'range' | 'variance';
 
 export type MinimizationInput = {
-  arms: string[];
+  /**
+   * Arm labels. Optional: when omitted they are read from `counts` (every arm key under every
+   * factor and level, in order of first appearance), so counts must then name each arm at least
+   * once (a zero count is enough).
+   */
+  arms?: string[];
   /** Allocation ratio per arm (default 1 each). */
   ratio?: number[];
   /** Names of the minimization factors, e.g. ['site', 'sex', 'ageBand']. */
   factors: string[];
-  /** The new participant's level of each factor. */
-  levels: Record<string, string>;
+  /** The new participant's level of each factor (a number is read as its string key). */
+  levels: Record<string, string | number>;
   /** counts[factor][level][arm]: participants already allocated with that level (missing = 0). */
   counts: Record<string, Record<string, Record<string, number>>>;
-  /** Weight per factor (default 1). */
-  weights?: Record<string, number>;
+  /** Weight per factor (default 1), keyed by factor or as an array in `factors` order. */
+  weights?: Record<string, number> | number[];
   /** Probability of the preferred (least-imbalancing) arm, 1/arms < probability < 1. */
   probability: number;
-  imbalance: ImbalanceMeasure;
+  /** Default 'range' (the measure of Pocock & Simon's worked example). */
+  imbalance?: ImbalanceMeasure;
   /** A seeded generator (createRng) or any function returning uniform draws in [0, 1). */
   random: Rng | (() => number);
 };
@@ -66,7 +72,11 @@ const MEASURES: readonly ImbalanceMeasure[] = ['range', 'variance'];
  * tie, the preferred arm, the probabilities and both draws.
  *
  * @throws {TypeError} an option has the wrong type; random is not a function or generator.
- * @throws {RangeError} fewer than two arms or duplicates; ratio invalid; no factors; a factor
+ * Omitted options: `arms` is read from `counts` (see the type), `ratio` is 1 for every arm,
+ * `weights` 1 for every factor, `imbalance` 'range'; `probability` must always be given.
+ *
+ * @throws {RangeError} fewer than two arms or duplicates (or, without arms, counts naming fewer
+ *   than two); ratio invalid; no factors; a factor
  *   without a level for the participant; a count that is negative, fractional or non-finite; a
  *   weight for an unknown factor or not finite and > 0; probability not in (1/arms, 1); unknown
  *   imbalance measure; a draw outside [0, 1).
@@ -79,18 +89,17 @@ const MEASURES: readonly ImbalanceMeasure[] = ['range', 'variance'];
  */
 export function minimizationAssign(input: MinimizationInput): MinimizationDecision {
   if (input === null || typeof input !== 'object') throw new TypeError(`${FN}: input must be an object`);
-  const arms = checkArms(FN, input.arms);
+  const arms = checkArms(FN, input.arms === undefined ? armsFromCounts(input.factors, input.counts) : input.arms);
   const K = arms.length;
   const ratio = checkRatio(FN, input.ratio, K);
-  const imbalance = checkOption(FN, 'imbalance', input.imbalance, MEASURES);
+  const imbalance = checkOption(FN, 'imbalance', input.imbalance ?? 'range', MEASURES);
   const probability = checkNumber(FN, 'probability', input.probability, { min: 1 / K, max: 1, exclusiveMin: true, exclusiveMax: true });
   const draw = drawFunction(input.random);
   if (!Array.isArray(input.factors) || input.factors.length === 0) {
     throw new RangeError(`${FN}: factors must be a non-empty array of factor names`);
   }
   const factors = input.factors;
-  const weights = input.weights ?? {};
-  if (weights === null || typeof weights !== 'object') throw new TypeError(`${FN}: weights must be an object keyed by factor`);
+  const weights = weightsByFactor(factors, input.weights);
   for (const key of Object.keys(weights)) {
     if (!factors.includes(key)) throw new RangeError(`${FN}: weights.${key} is not one of the factors (${factors.join(', ')})`);
   }
@@ -104,7 +113,8 @@ export function minimizationAssign(input: MinimizationInput): MinimizationDecisi
     scores[a] = 0;
   }
   for (const f of factors) {
-    const level = input.levels[f];
+    const rawLevel = input.levels[f];
+    const level = typeof rawLevel === 'number' && Number.isFinite(rawLevel) ? String(rawLevel) : rawLevel;
     if (typeof level !== 'string') throw new RangeError(`${FN}: levels.${f} is missing; the participant needs a level for every factor`);
     const w = weights[f] === undefined ? 1 : checkNumber(FN, `weights.${f}`, weights[f], { min: 0, exclusiveMin: true });
     const byArm = input.counts[f]?.[level] ?? {};
@@ -149,6 +159,39 @@ export function minimizationAssign(input: MinimizationInput): MinimizationDecisi
     probability,
     ratio,
   };
+}
+
+/** Arm labels named anywhere in counts[factor][level], in order of first appearance. */
+function armsFromCounts(factors: unknown, counts: unknown): string[] {
+  if (!Array.isArray(factors)) throw new RangeError(`${FN}: factors must be a non-empty array of factor names`);
+  if (counts === null || typeof counts !== 'object') throw new TypeError(`${FN}: counts must be an object keyed by factor`);
+  const seen = new Set<string>();
+  for (const f of factors as unknown[]) {
+    const byLevel = (counts as Record<string, unknown>)[String(f)];
+    if (byLevel === null || typeof byLevel !== 'object') continue;
+    for (const byArm of Object.values(byLevel as Record<string, unknown>)) {
+      if (byArm !== null && typeof byArm === 'object') for (const a of Object.keys(byArm)) seen.add(a);
+    }
+  }
+  if (seen.size < 2) {
+    throw new RangeError(
+      `${FN}: arms was not given and counts name ${seen.size} arm(s); pass arms, or list every arm (with a zero count) in counts`,
+    );
+  }
+  return [...seen];
+}
+
+/** Weights keyed by factor; an array is read in `factors` order. */
+function weightsByFactor(factors: string[], weights: unknown): Record<string, number> {
+  if (weights === undefined) return {};
+  if (Array.isArray(weights)) {
+    if (weights.length !== factors.length) {
+      throw new RangeError(`${FN}: weights has ${weights.length} entries but there are ${factors.length} factors`);
+    }
+    return Object.fromEntries(factors.map((f, i) => [f, weights[i] as number]));
+  }
+  if (weights === null || typeof weights !== 'object') throw new TypeError(`${FN}: weights must be an object keyed by factor, or an array in factors order`);
+  return weights as Record<string, number>;
 }
 
 function sampleVariance(xs: number[]): number {

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { ancova } from '../ancova.js';
+import { slopeHomogeneityTest } from '../../slopeHomogeneityTest/slopeHomogeneityTest.js';
 
 const base = {
   outcome: [1, 2.5, 3, 4.2, 5, 6.1, 7, 8.4],
@@ -47,5 +48,25 @@ describe('ancova bad input', () => {
     const numbers = JSON.stringify(r).match(/null|NaN/g);
     expect(numbers).toBeNull();
     expect(r.weighted).toBe(true);
+  });
+});
+
+describe('ancova: covariates omitted, numeric group labels', () => {
+  // Reference: NIST/SEMATECH e-Handbook §7.4.3.3 one-way ANOVA example (SS between 27.897,
+  // SS within 17.452, F 9.59); numeric labels 1, 2, 3 in order of first appearance.
+  const y = [6.9, 5.4, 5.8, 4.6, 4.0, 8.3, 6.8, 7.8, 9.2, 6.5, 8.0, 10.5, 8.1, 6.9, 9.3];
+  const g = [1, 1, 1, 1, 1, 2, 2, 2, 2, 2, 3, 3, 3, 3, 3];
+  it('treats omitted covariates as none: the one-way ANOVA table with the term named group', () => {
+    const r = ancova({ outcome: y, group: g });
+    const term = r.terms.find((t) => t.term === 'group');
+    expect(r.terms).toHaveLength(1);
+    expect(term?.ss).toBeCloseTo(27.897, 3);
+    expect(r.error.ss).toBeCloseTo(17.452, 3);
+    expect(term?.f).toBeCloseTo(9.59, 2);
+    expect(r.adjustedMeans.map((m) => m.group)).toEqual([1, 2, 3]);
+    expect(r.unadjusted.between.f).toBeCloseTo(term?.f as number, 12);
+  });
+  it('slopeHomogeneityTest without covariates says one is needed', () => {
+    expect(() => slopeHomogeneityTest({ outcome: y, group: g })).toThrow(/covariates must name at least one covariate/);
   });
 });

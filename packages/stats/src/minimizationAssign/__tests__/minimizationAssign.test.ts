@@ -171,3 +171,43 @@ describe('minimizationAssign: bad input', () => {
     expect(call).toThrow(message);
   });
 });
+
+describe('minimizationAssign: options the call may leave out', () => {
+  // Three arms (range measure, Pocock & Simon 1975). sex F: counts A 2, B 1, C 1, so joining A
+  // gives range 2, joining B or C range 1; band 2: counts all 0, range 1 whichever arm is joined.
+  // Totals A 3, B 2, C 2: B and C tie (hand computation).
+  const call = {
+    factors: ['sex', 'band'],
+    levels: { sex: 'F', band: 2 },
+    counts: { sex: { F: { A: 2, B: 1, C: 1 } }, band: { 2: { A: 0, B: 0, C: 0 } } },
+    probability: 0.7,
+    imbalance: 'range' as const,
+  };
+  const draws = () => {
+    const u = [0.1, 0.2];
+    return () => u.shift() as number;
+  };
+  it('reads the arms from counts, in order of first appearance, when arms is omitted', () => {
+    const inferred = minimizationAssign({ ...call, random: draws() });
+    const explicit = minimizationAssign({ ...call, arms: ['A', 'B', 'C'], random: draws() });
+    expect(inferred).toEqual(explicit);
+    expect(inferred.scores).toEqual({ A: 3, B: 2, C: 2 });
+    expect(inferred.tiedArms).toEqual(['B', 'C']);
+  });
+  it('takes a numeric level as its string key, weights as an array in factors order, and range by default', () => {
+    const { imbalance: _omit, ...noMeasure } = call;
+    const a = minimizationAssign({ ...noMeasure, arms: ['A', 'B', 'C'], weights: [2, 1], random: draws() });
+    const b = minimizationAssign({ ...call, arms: ['A', 'B', 'C'], levels: { sex: 'F', band: '2' }, weights: { sex: 2, band: 1 }, random: draws() });
+    expect(a).toEqual(b);
+    expect(a.imbalance).toBe('range');
+    expect(a.scores).toEqual({ A: 5, B: 3, C: 3 }); // 2 x sex + 1 x band
+  });
+  it.each([
+    ['counts naming one arm, without arms', { counts: { sex: { F: { A: 1 } } } }, RangeError, /arms was not given and counts name 1 arm/],
+    ['weights array of the wrong length', { arms: ['A', 'B', 'C'], weights: [1] }, RangeError, /weights has 1 entries but there are 2 factors/],
+  ])('rejects %s', (_l, patch, type, message) => {
+    const f = () => minimizationAssign({ ...call, random: draws(), ...(patch as object) } as MinimizationInput);
+    expect(f).toThrow(type);
+    expect(f).toThrow(message);
+  });
+});
