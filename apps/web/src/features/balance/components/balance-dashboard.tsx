@@ -8,6 +8,9 @@ import { SelectField } from '../../../components/ui/field.js';
 import { EmptyState, ErrorState, LoadingState } from '../../../components/ui/states.js';
 import { StatisticianCaution } from '../../../components/ui/statistician-caution.js';
 import { isApiError } from '../../../lib/api-client.js';
+import { paths } from '../../../config/paths.js';
+import { TextLink } from '../../../components/ui/text-link.js';
+import { useAlerts } from '../api/get-alerts.js';
 import { useBalanceArms } from '../api/get-balance.js';
 import { useBalanceHistory } from '../api/get-balance-history.js';
 import { baselineTableQueryKey } from '../api/get-baseline-table.js';
@@ -129,6 +132,7 @@ function BalanceBody({
           </p>
         </Callout>
       )}
+      <OpenAlertsLine studyId={study.id} />
       {view.comparisonNote && <Callout tone="info">{view.comparisonNote}</Callout>}
 
       <Card>
@@ -231,5 +235,26 @@ function ChanceSummary({ view, scope }: { view: BalanceArmsView; scope: string }
         .
       </p>
     </Callout>
+  );
+}
+
+/** A pointer to the alerts page, so the chart and the list of what fired are one click apart. */
+function OpenAlertsLine({ studyId }: { studyId: string }) {
+  const alerts = useAlerts(studyId, 'all');
+  const open = (alerts.data?.alerts ?? []).filter((a) => a.state === 'open');
+  if (!alerts.data) return null;
+  const beyond = open.filter((a) => a.rule === 'smd_beyond_chance').length;
+  return (
+    <p className="text-sm text-graphite" data-testid="open-alerts-line">
+      {open.length === 0 ? (
+        'No open balance alerts.'
+      ) : (
+        <>
+          <span className="figure text-ink">{open.length}</span> open alert{open.length === 1 ? '' : 's'}, of
+          which <span className="figure text-ink">{beyond}</span> beyond the chance band.{' '}
+        </>
+      )}{' '}
+      <TextLink to={paths.studies.tab.href(studyId, 'alerts')}>Review alerts</TextLink>
+    </p>
   );
 }
