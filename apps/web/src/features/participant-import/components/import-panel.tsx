@@ -38,7 +38,7 @@ export function importColumns(study: StudyDetail): { name: string; meaning: stri
           ? 'yes or no'
           : `one of ${(c.levels ?? []).join(', ')}`;
     cols.push({ name: c.key, meaning: `${c.label}: ${what}${c.required ? ' (required)' : ''}` });
-    cols.push({ name: `${c.key}_date`, meaning: `Date ${c.label} was measured, YYYY-MM-DD` });
+    cols.push({ name: `${c.key}_date`, meaning: `Measurement date of ${c.label}, YYYY-MM-DD` });
   }
   for (const q of study.screeningQuestions) {
     const what =
@@ -157,6 +157,7 @@ function ReportView({ report }: { report: ImportReport }) {
             at all: fix these rows and upload the file again.
             {report.errorsTruncated && ' Only the first problems are listed.'}
           </Callout>
+          <p className="text-sm text-graphite">Row numbers are lines of the file; the header is row 1.</p>
           <Table aria-label="Problems by row and field">
             <THead>
               <TR>

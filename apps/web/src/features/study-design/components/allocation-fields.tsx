@@ -51,7 +51,7 @@ function RadioOption({
   );
 }
 
-export function AllocationFields({ study }: { study: StudyDetail }) {
+export function AllocationFields({ study, locked }: { study: StudyDetail; locked: boolean }) {
   const {
     register,
     control,
@@ -81,121 +81,134 @@ export function AllocationFields({ study }: { study: StudyDetail }) {
         }
       />
       <CardBody className="flex flex-col gap-5">
-        {randomized ? (
-          <fieldset className="flex flex-col gap-3">
-            <legend className="mb-2 text-sm font-semibold text-ink">Method</legend>
-            <RadioOption
-              value="permuted_blocks"
-              label="Stratified permuted blocks"
-              hint="Block sizes mixed at random within each stratum."
-              {...register('allocation.method')}
-            />
-            <RadioOption
-              value="minimization"
-              label="Minimization (Pocock-Simon)"
-              hint="Gives the arm that reduces factor imbalance, with a random element always."
-              {...register('allocation.method')}
-            />
-          </fieldset>
-        ) : (
-          <input type="hidden" value="exposure_recorded" {...register('allocation.method')} />
+        {locked && (
+          <p className="text-sm text-graphite">
+            Locked: the allocation scheme cannot change once participants are enrolled, so that every
+            allocation already given can be reproduced.
+          </p>
         )}
-
-        {method === 'permuted_blocks' && (
-          <div className="grid gap-4 sm:grid-cols-2">
-            <TextField
-              label="Block sizes"
-              hint="Comma-separated, e.g. 4, 6. Each must be a multiple of the sum of the arm ratios."
-              className="figure"
-              {...register('allocation.blockSizes')}
-            />
-            <div className="sm:pt-7">
-              <CheckboxField
-                label="Stratify by site"
-                hint="Strata are the combinations of the stratification factors, and the site if ticked."
-                {...register('allocation.stratifyBySite')}
-              />
-            </div>
-            <div className="sm:col-span-2">
-              <Messages node={e && 'blockSizes' in e ? e.blockSizes : undefined} />
-            </div>
-          </div>
-        )}
-
-        {method === 'minimization' && (
-          <div className="flex flex-col gap-4">
+        <fieldset disabled={locked} className="flex flex-col gap-5">
+          <legend className="sr-only">Allocation settings</legend>
+          {randomized ? (
             <fieldset className="flex flex-col gap-3">
-              <legend className="mb-1 text-sm font-semibold text-ink">Factors and weights</legend>
-              <p className="text-sm text-graphite">Required binary or categorical covariates, or the site.</p>
-              {factors.fields.map((field, i) => (
-                <div key={field.id} className="grid items-start gap-3 sm:grid-cols-[1fr_8rem_auto]">
-                  <SelectField label={`Factor ${i + 1}`} {...register(`allocation.factors.${i}.factor`)}>
-                    {factorOptions.map((o) => (
-                      <option key={o.key} value={o.key}>
-                        {o.label}
-                      </option>
-                    ))}
-                  </SelectField>
-                  <TextField
-                    label="Weight"
-                    type="number"
-                    min={0.1}
-                    step="any"
-                    {...register(`allocation.factors.${i}.weight`, { valueAsNumber: true })}
-                  />
-                  <Button
-                    variant="quiet"
-                    size="sm"
-                    className="sm:mt-7"
-                    onClick={() => factors.remove(i)}
-                    disabled={factors.fields.length <= 1}
-                    aria-label={`Remove factor ${i + 1}`}
-                  >
-                    Remove
-                  </Button>
-                </div>
-              ))}
-              <div>
-                <Button
-                  variant="secondary"
-                  size="sm"
-                  onClick={() => factors.append({ factor: 'site', weight: 1 })}
-                  disabled={factors.fields.length >= 6}
-                >
-                  Add factor
-                </Button>
-              </div>
+              <legend className="mb-2 text-sm font-semibold text-ink">Method</legend>
+              <RadioOption
+                value="permuted_blocks"
+                label="Stratified permuted blocks"
+                hint="Block sizes mixed at random within each stratum."
+                {...register('allocation.method')}
+              />
+              <RadioOption
+                value="minimization"
+                label="Minimization (Pocock-Simon)"
+                hint="Gives the arm that reduces factor imbalance, with a random element always."
+                {...register('allocation.method')}
+              />
             </fieldset>
+          ) : (
+            <input type="hidden" value="exposure_recorded" {...register('allocation.method')} />
+          )}
+
+          {method === 'permuted_blocks' && (
             <div className="grid gap-4 sm:grid-cols-2">
               <TextField
-                label="Probability of the preferred arm"
-                type="number"
-                min={0.51}
-                max={0.99}
-                step={0.01}
-                hint="Above 0.5 and below 1, so allocation stays random (ICH E9). Pocock (1979) uses 0.75."
-                {...register('allocation.probability', { valueAsNumber: true })}
+                label="Block sizes"
+                hint="Comma-separated, e.g. 4, 6. Each must be a multiple of the sum of the arm ratios."
+                className="figure"
+                {...register('allocation.blockSizes')}
               />
-              <SelectField label="Imbalance measure" {...register('allocation.imbalance')}>
-                <option value="range">Range</option>
-                <option value="variance">Variance</option>
-              </SelectField>
+              <div className="sm:pt-7">
+                <CheckboxField
+                  label="Stratify by site"
+                  hint="Strata are the combinations of the stratification factors, and the site if ticked."
+                  {...register('allocation.stratifyBySite')}
+                />
+              </div>
+              <div className="sm:col-span-2">
+                <Messages node={e && 'blockSizes' in e ? e.blockSizes : undefined} />
+              </div>
             </div>
-            <Messages node={e && ('factors' in e || 'weights' in e || 'probability' in e) ? e : undefined} />
-          </div>
-        )}
+          )}
 
-        {method === 'exposure_recorded' && (
-          <SelectField
-            label="Weighting estimand for balance"
-            hint="Which population the propensity-score weights describe."
-            {...register('allocation.estimand')}
-          >
-            <option value="ATE">ATE: the whole cohort</option>
-            <option value="ATT">ATT: those exposed</option>
-            <option value="overlap">Overlap weights: those who could plausibly be in either group</option>
-          </SelectField>
-        )}
+          {method === 'minimization' && (
+            <div className="flex flex-col gap-4">
+              <fieldset className="flex flex-col gap-3">
+                <legend className="mb-1 text-sm font-semibold text-ink">Factors and weights</legend>
+                <p className="text-sm text-graphite">
+                  Required binary or categorical covariates, or the site.
+                </p>
+                {factors.fields.map((field, i) => (
+                  <div key={field.id} className="grid items-start gap-3 sm:grid-cols-[1fr_8rem_auto]">
+                    <SelectField label={`Factor ${i + 1}`} {...register(`allocation.factors.${i}.factor`)}>
+                      {factorOptions.map((o) => (
+                        <option key={o.key} value={o.key}>
+                          {o.label}
+                        </option>
+                      ))}
+                    </SelectField>
+                    <TextField
+                      label="Weight"
+                      type="number"
+                      min={0.1}
+                      step="any"
+                      {...register(`allocation.factors.${i}.weight`, { valueAsNumber: true })}
+                    />
+                    <Button
+                      variant="quiet"
+                      size="sm"
+                      className="sm:mt-7"
+                      onClick={() => factors.remove(i)}
+                      disabled={factors.fields.length <= 1}
+                      aria-label={`Remove factor ${i + 1}`}
+                    >
+                      Remove
+                    </Button>
+                  </div>
+                ))}
+                <div>
+                  <Button
+                    variant="secondary"
+                    size="sm"
+                    onClick={() => factors.append({ factor: 'site', weight: 1 })}
+                    disabled={factors.fields.length >= 6}
+                  >
+                    Add factor
+                  </Button>
+                </div>
+              </fieldset>
+              <div className="grid gap-4 sm:grid-cols-2">
+                <TextField
+                  label="Probability of the preferred arm"
+                  type="number"
+                  min={0.51}
+                  max={0.99}
+                  step={0.01}
+                  hint="Above 0.5 and below 1, so allocation stays random (ICH E9). Pocock (1979) uses 0.75."
+                  {...register('allocation.probability', { valueAsNumber: true })}
+                />
+                <SelectField label="Imbalance measure" {...register('allocation.imbalance')}>
+                  <option value="range">Range</option>
+                  <option value="variance">Variance</option>
+                </SelectField>
+              </div>
+              <Messages
+                node={e && ('factors' in e || 'weights' in e || 'probability' in e) ? e : undefined}
+              />
+            </div>
+          )}
+
+          {method === 'exposure_recorded' && (
+            <SelectField
+              label="Weighting estimand for balance"
+              hint="Which population the propensity-score weights describe."
+              {...register('allocation.estimand')}
+            >
+              <option value="ATE">ATE: the whole cohort</option>
+              <option value="ATT">ATT: those exposed</option>
+              <option value="overlap">Overlap weights: those who could plausibly be in either group</option>
+            </SelectField>
+          )}
+        </fieldset>
 
         {stored?.seed && (
           <dl className="grid gap-2 rounded-control border border-rule bg-paper/50 p-3 text-sm sm:grid-cols-3">
@@ -266,14 +279,14 @@ export function StrataPlanPanel({ study }: { study: StudyDetail }) {
             ))}
             {plan.warnings.length === 0 && (
               <Callout tone="success" role="note">
-                The saved scheme keeps the worst-case imbalance well below the target sample size.
+                The planner raises no warning for the saved scheme.
               </Callout>
             )}
           </>
         )}
         {preview && (
           <p className="text-sm text-graphite" aria-live="polite">
-            With your unsaved changes: <span className="figure">{preview.strata}</span> strata × block size{' '}
+            With the values on this page: <span className="figure">{preview.strata}</span> strata × block size{' '}
             <span className="figure">{preview.maxBlock}</span> / 2 ={' '}
             <span className="figure font-semibold text-ink">{preview.bound}</span> participants of possible
             imbalance, against a target of <span className="figure">{draft.targetSampleSize}</span>. The

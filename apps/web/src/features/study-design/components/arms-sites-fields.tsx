@@ -5,7 +5,7 @@ import { SelectField, TextField } from '../../../components/ui/field.js';
 import type { DesignDraft } from './design-draft.js';
 import { ListError } from './list-error.js';
 
-export function ArmsFields({ hidden }: { hidden: boolean }) {
+export function ArmsFields({ hidden, locked }: { hidden: boolean; locked: boolean }) {
   const {
     register,
     control,
@@ -19,7 +19,8 @@ export function ArmsFields({ hidden }: { hidden: boolean }) {
         title="Arms"
         description="Two or more arms. The ratio is the relative allocation weight: 2 and 1 give a 2:1 ratio."
         actions={
-          !hidden && (
+          !hidden &&
+          !locked && (
             <Button
               variant="secondary"
               size="sm"
@@ -38,7 +39,13 @@ export function ArmsFields({ hidden }: { hidden: boolean }) {
             and the allocation scheme.
           </p>
         ) : (
-          <>
+          <fieldset disabled={locked} className="flex flex-col gap-3">
+            <legend className="sr-only">Arms</legend>
+            {locked && (
+              <p className="text-sm text-graphite">
+                Locked: arms and their ratios cannot change once participants are enrolled.
+              </p>
+            )}
             <ListError node={errors.arms} />
             {arms.fields.map((field, i) => (
               <fieldset key={field.id} className="grid items-start gap-3 sm:grid-cols-[8rem_1fr_6rem_auto]">
@@ -75,7 +82,7 @@ export function ArmsFields({ hidden }: { hidden: boolean }) {
                 </Button>
               </fieldset>
             ))}
-          </>
+          </fieldset>
         )}
       </CardBody>
     </Card>

@@ -7,7 +7,7 @@ import { newCovariate, type DesignDraft } from './design-draft.js';
 import { firstMessage } from './form-messages.js';
 import { ListError } from './list-error.js';
 
-function CovariateRow({ index, onRemove }: { index: number; onRemove: () => void }) {
+function CovariateRow({ index, onRemove, locked }: { index: number; onRemove: () => void; locked: boolean }) {
   const {
     register,
     control,
@@ -28,11 +28,12 @@ function CovariateRow({ index, onRemove }: { index: number; onRemove: () => void
           label="Key"
           hint="Lower-case, used in exports"
           className="figure"
+          readOnly={locked}
           error={e?.key?.message}
           {...register(`covariates.${index}.key`)}
         />
         <TextField label="Label" error={e?.label?.message} {...register(`covariates.${index}.label`)} />
-        <SelectField label="Kind" {...register(`covariates.${index}.kind`)}>
+        <SelectField label="Kind" disabled={locked} {...register(`covariates.${index}.kind`)}>
           <option value="continuous">Continuous</option>
           <option value="binary">Binary (yes/no)</option>
           <option value="categorical">Categorical</option>
@@ -104,7 +105,14 @@ function CovariateRow({ index, onRemove }: { index: number; onRemove: () => void
         <CheckboxField label="Required" {...register(`covariates.${index}.required`)} />
         <CheckboxField
           label="Stratification factor"
-          hint={kind === 'continuous' ? 'Only binary or categorical covariates can stratify.' : undefined}
+          hint={
+            locked
+              ? 'Locked once participants are enrolled.'
+              : kind === 'continuous'
+                ? 'Only binary or categorical covariates can stratify.'
+                : undefined
+          }
+          disabled={locked}
           {...register(`covariates.${index}.isStratification`)}
         />
         <CheckboxField
@@ -123,15 +131,21 @@ function CovariateRow({ index, onRemove }: { index: number; onRemove: () => void
         </p>
       )}
       <div>
-        <Button variant="quiet" size="sm" onClick={onRemove} aria-label={`Remove covariate ${index + 1}`}>
-          Remove covariate
+        <Button
+          variant="quiet"
+          size="sm"
+          onClick={onRemove}
+          disabled={locked}
+          aria-label={`Remove covariate ${index + 1}`}
+        >
+          {locked ? 'In use: cannot be removed' : 'Remove covariate'}
         </Button>
       </div>
     </fieldset>
   );
 }
 
-export function CovariatesFields({ enrolled }: { enrolled: number }) {
+export function CovariatesFields({ enrolled, savedCount }: { enrolled: number; savedCount: number }) {
   const {
     control,
     formState: { errors },
@@ -161,7 +175,12 @@ export function CovariatesFields({ enrolled }: { enrolled: number }) {
           <p className="text-sm text-graphite">No covariates defined yet.</p>
         )}
         {covariates.fields.map((field, i) => (
-          <CovariateRow key={field.id} index={i} onRemove={() => covariates.remove(i)} />
+          <CovariateRow
+            key={field.id}
+            index={i}
+            locked={enrolled > 0 && i < savedCount}
+            onRemove={() => covariates.remove(i)}
+          />
         ))}
       </CardBody>
     </Card>

@@ -115,12 +115,12 @@ export function DesignEditor({ study }: { study: StudyDetail }) {
           </CardBody>
         </Card>
 
-        <ArmsFields hidden={armsHidden} />
+        <ArmsFields hidden={armsHidden} locked={needsReason} />
         <SitesFields />
-        <CovariatesFields enrolled={study.enrolled} />
+        <CovariatesFields enrolled={study.enrolled} savedCount={study.covariates.length} />
         <ScreeningQuestionsFields />
         <EligibilityFields />
-        <AllocationFields study={study} />
+        <AllocationFields study={study} locked={needsReason} />
         <StrataPlanPanel study={study} />
 
         <Card>
