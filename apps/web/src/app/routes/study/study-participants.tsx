@@ -43,7 +43,12 @@ export function StudyParticipantsRoute() {
                   </a>
                 </div>
               </div>
-              <ParticipantsTable studyId={study.id} sites={detail.sites} showArms={detail.canSeeArms} />
+              <ParticipantsTable
+                studyId={study.id}
+                sites={detail.sites}
+                showArms={detail.canSeeArms}
+                siteScoped={detail.sites.length < study.siteCount}
+              />
             </div>
           );
         }}

@@ -28,6 +28,8 @@ type ParticipantsTableProps = {
   sites: SiteOption[];
   /** Arms only where the API says this reader may see them. */
   showArms: boolean;
+  /** True when the reader works at some sites only (coordinators). */
+  siteScoped: boolean;
 };
 
 const column = createColumnHelper<ParticipantSummary>();
@@ -59,7 +61,7 @@ function useListParams(): [
   return [params, update];
 }
 
-export function ParticipantsTable({ studyId, sites, showArms }: ParticipantsTableProps) {
+export function ParticipantsTable({ studyId, sites, showArms, siteScoped }: ParticipantsTableProps) {
   const [params, update] = useListParams();
   const list = useParticipants(studyId, params);
   const [searchText, setSearchText] = useState(params.q ?? '');
@@ -168,7 +170,7 @@ export function ParticipantsTable({ studyId, sites, showArms }: ParticipantsTabl
           value={params.siteId ?? ''}
           onChange={(e) => update({ siteId: e.target.value || undefined })}
         >
-          <option value="">{sites.length > 1 ? 'All my sites' : 'All'}</option>
+          <option value="">{siteScoped ? 'All my sites' : 'All sites'}</option>
           {sites.map((s) => (
             <option key={s.id} value={s.id}>
               {s.code} · {s.name}
