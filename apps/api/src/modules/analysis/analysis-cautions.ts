@@ -8,7 +8,8 @@ import type { StrataFactor } from './analysis-data.js';
  * "common practice".
  */
 
-const fmtP = (p: number) => (p < 0.0001 ? '< 0.0001' : p.toFixed(4));
+/** 'p = 0.0123' or 'p < 0.0001'. */
+const fmtP = (p: number) => (p < 0.0001 ? 'p < 0.0001' : `p = ${p.toFixed(4)}`);
 
 /** Covariate keys the spec names (baseline of the outcome first). */
 export function specCovariateKeys(spec: AnalysisSpec): string[] {
@@ -84,7 +85,7 @@ export function slopesDiffer(f: number, df1: number, df2: number, p: number, alp
     code: 'slopes_differ',
     severity: 'warning',
     title: 'The arms have different slopes: the common-slope ANCOVA is not representative',
-    message: `The arm-by-covariate interaction is significant (F(${df1}, ${df2}) = ${f.toFixed(2)}, p = ${fmtP(p)}, for ${covariates.join(', ')}). The common-slope ANCOVA assumes the same slope in every arm; here that does not hold, so the single adjusted difference does not describe the data: the difference between arms depends on the covariate value. Look at the per-arm lines below; how to report it is the statistician's decision under the protocol.`,
+    message: `The arm-by-covariate interaction is significant (F(${df1}, ${df2}) = ${f.toFixed(2)}, ${fmtP(p)}, for ${covariates.join(', ')}). The common-slope ANCOVA assumes the same slope in every arm; here that does not hold, so the single adjusted difference does not describe the data: the difference between arms depends on the covariate value. Look at the per-arm lines below; how to report it is the statistician's decision under the protocol.`,
     source: 'Homogeneity of regression slopes: Montgomery, Design and Analysis of Experiments, §15.3 (memory)',
   };
 }
@@ -134,7 +135,7 @@ export function thresholdEnrollment(design: StudyDesign, modelKeys: string[]): C
     code: 'threshold_enrollment',
     severity: 'warning',
     title: 'Enrollment by a baseline threshold: regression to the mean',
-    message: `Participants were enrolled by a threshold on a baseline value (${hits.map((h) => `${h.label}: ${h.field} ${h.op} ${String(h.value)}`).join('; ')}). Values selected for being extreme tend to move back towards the mean at follow-up in every arm, with or without treatment. Within-arm change from baseline therefore overstates any effect; compare the arms with the ANCOVA, not each arm's change.`,
+    message: `Participants were enrolled by a threshold on a baseline value (${hits.map((h) => `${h.label}: ${h.field} ${h.op} ${String(h.value)}`).join('; ')}). Values selected for being extreme tend to move back towards the mean at follow-up in every arm, with or without treatment. Within-arm change from baseline therefore overstates any effect; compare the arms with the ANCOVA, not each arm's change. This concerns values that vary within a person (measurement error, day-to-day variation), not fixed ones such as age.`,
     source: 'Barnett, van der Pols & Dobson, Int J Epidemiol 2005;34:215 (memory); Senn, Stat Med 2006 (memory)',
   };
 }

@@ -107,7 +107,8 @@ function histogram(values: number[]): RunResult['normality']['histogram'] {
 function fmt(x: number, d = 2): string {
   return Number.isFinite(x) ? x.toFixed(d) : String(x);
 }
-const fmtP = (p: number) => (p < 0.0001 ? '< 0.0001' : p.toFixed(4));
+/** 'p = 0.0123' or 'p < 0.0001'. */
+const fmtP = (p: number) => (p < 0.0001 ? 'p < 0.0001' : `p = ${p.toFixed(4)}`);
 
 function statsError(error: unknown): never {
   if (error instanceof RangeError || error instanceof TypeError) {
@@ -361,7 +362,7 @@ export function computeRun(input: ComputeInput): RunResult {
       status: 'recorded',
       summary:
         design.kind === 'randomized_trial'
-          ? `By design: each participant was allocated individually (${design.allocation?.method ?? 'allocation recorded'}) and contributes one outcome. Participants of one site may resemble each other; site is ${siteInModel ? '' : 'not '}in the model.`
+          ? `By design: each participant was allocated individually (${design.allocation ? design.allocation.method.replace('_', ' ') : 'allocation recorded'}) and contributes one outcome. Participants of one site may resemble each other; site is ${siteInModel ? '' : 'not '}in the model.`
           : `By design: one outcome per participant in a cohort; groups were not randomized. Participants of one clinic may resemble each other; site is ${siteInModel ? '' : 'not '}in the model.`,
       source: 'Study design (recorded, not tested)',
     },
@@ -375,7 +376,7 @@ export function computeRun(input: ComputeInput): RunResult {
             ? 'attention'
             : 'pass',
       summary:
-        (sw ? `Shapiro-Wilk W = ${fmt(sw.w, 4)}, p = ${fmtP(sw.p)}; ` : `Shapiro-Wilk not computed (n = ${n}, needs 3 to 5000); `) +
+        (sw ? `Shapiro-Wilk W = ${fmt(sw.w, 4)}, ${fmtP(sw.p)}; ` : `Shapiro-Wilk not computed (n = ${n}, needs 3 to 5000); `) +
         `skewness ${fmt(sum.skewness ?? NaN)}, excess kurtosis ${fmt(sum.excessKurtosis ?? NaN)}. With large samples the test flags trivial departures: read the Q-Q plot. Attention at p < 0.05, |skewness| > 1 or |excess kurtosis| > 2.`,
       source: 'Shapiro & Wilk, Biometrika 1965; Royston, Stat Comput 1992; skewness/kurtosis limits: common practice',
     },
@@ -384,7 +385,7 @@ export function computeRun(input: ComputeInput): RunResult {
       title: 'Equal residual variance across arms (Levene, median-centred)',
       status: levene === null ? 'not_computed' : levene.p < 0.05 ? 'attention' : 'pass',
       summary: levene
-        ? `F(${levene.df1}, ${levene.df2}) = ${fmt(levene.statistic)}, p = ${fmtP(levene.p)} on the residuals by arm.${fit.robust.available ? ` HC3-robust F for the arm effect: ${fmt(fit.robust.groupWald.f)}, p = ${fmtP(fit.robust.groupWald.p)}.` : ''}`
+        ? `F(${levene.df1}, ${levene.df2}) = ${fmt(levene.statistic)}, ${fmtP(levene.p)} on the residuals by arm.${fit.robust.available ? ` HC3-robust F for the arm effect: ${fmt(fit.robust.groupWald.f)}, ${fmtP(fit.robust.groupWald.p)}.` : ''}`
         : 'Not computed on these data.',
       source: 'Levene 1960; Brown & Forsythe, JASA 1974;69:364',
     },
@@ -409,7 +410,7 @@ export function computeRun(input: ComputeInput): RunResult {
       title: 'Homogeneity of regression slopes (arm × covariate)',
       status: slopeHomogeneity === null ? 'not_computed' : slopeHomogeneity.p < alpha ? 'attention' : 'pass',
       summary: slopeHomogeneity
-        ? `F(${slopeHomogeneity.df1}, ${slopeHomogeneity.df2}) = ${fmt(slopeHomogeneity.f)}, p = ${fmtP(slopeHomogeneity.p)} at alpha ${alpha}; tested in the model with the continuous covariates (${slopeHomogeneity.covariates.join(', ')}).`
+        ? `F(${slopeHomogeneity.df1}, ${slopeHomogeneity.df2}) = ${fmt(slopeHomogeneity.f)}, ${fmtP(slopeHomogeneity.p)} at alpha ${alpha}; tested in the model with the continuous covariates (${slopeHomogeneity.covariates.join(', ')}).`
         : slopeError
           ? `Not computed: ${slopeError}`
           : 'No continuous covariate in the model.',

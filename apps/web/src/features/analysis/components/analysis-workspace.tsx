@@ -39,29 +39,46 @@ export function AnalysisWorkspace({ study }: { study: StudySummary }) {
         <SpecEditor studyId={study.id} data={data} />
         <div className="flex flex-col gap-5">
           <Card data-testid="signature-card">
-            <CardHeader title="Signature" description="Locking signs the version electronically (21 CFR 11.50, 11.200)." />
+            <CardHeader
+              title="Signature"
+              description="Locking signs the version electronically (21 CFR 11.50, 11.200)."
+            />
             <CardBody className="flex flex-col gap-3 text-sm">
-              {data.versions.filter((v) => v.signature).map((v) => (
-                <div key={v.version} className="rounded-control border border-moss/30 bg-moss-wash px-3 py-2 text-ink" data-testid="signature">
-                  <p className="font-semibold">Version {v.version} locked</p>
-                  <p>
-                    Signed by <span className="font-semibold">{v.signature!.signerName}</span> ({v.signature!.signerEmail}) at{' '}
-                    <span className="figure">{utcTime(v.signature!.signedAt)}</span>
-                  </p>
-                  <p>Meaning: &ldquo;{v.signature!.meaning}&rdquo;</p>
-                  <p className="figure text-xs break-all text-graphite">SHA-256 {v.signature!.contentSha256}</p>
-                </div>
-              ))}
+              {data.versions
+                .filter((v) => v.signature)
+                .map((v) => (
+                  <div
+                    key={v.version}
+                    className="rounded-control border border-moss/30 bg-moss-wash px-3 py-2 text-ink"
+                    data-testid="signature"
+                  >
+                    <p className="font-semibold">Version {v.version} locked</p>
+                    <p>
+                      Signed by <span className="font-semibold">{v.signature!.signerName}</span> (
+                      {v.signature!.signerEmail}) at{' '}
+                      <span className="figure">{utcTime(v.signature!.signedAt)}</span>
+                    </p>
+                    <p>Meaning: &ldquo;{v.signature!.meaning}&rdquo;</p>
+                    <p className="figure text-xs break-all text-graphite">
+                      SHA-256 {v.signature!.contentSha256}
+                    </p>
+                  </div>
+                ))}
               {current && current.status === 'draft' && (
                 <>
                   <p className="text-graphite">
-                    Version {current.version} is a draft. Lock it before the comparison of arms is looked at; later changes
-                    make new versions, and their runs exploratory.
+                    Version {current.version} is a draft. Lock it before the comparison of arms is looked at;
+                    later changes make new versions, and their runs exploratory.
                   </p>
                   <div>
                     <Button onClick={() => setLockOpen(true)}>Sign and lock version {current.version}</Button>
                   </div>
-                  <LockDialog studyId={study.id} spec={current} open={lockOpen} onClose={() => setLockOpen(false)} />
+                  <LockDialog
+                    studyId={study.id}
+                    spec={current}
+                    open={lockOpen}
+                    onClose={() => setLockOpen(false)}
+                  />
                 </>
               )}
               {!current && <p className="text-graphite">Save a specification to lock it.</p>}
@@ -70,7 +87,9 @@ export function AnalysisWorkspace({ study }: { study: StudySummary }) {
           {data.completeness ? (
             <CompletenessCard completeness={data.completeness} label={current?.spec.outcome.label ?? ''} />
           ) : (
-            <Callout tone="info">Outcome completeness appears once the specification names the outcome.</Callout>
+            <Callout tone="info">
+              Outcome completeness appears once the specification names the outcome.
+            </Callout>
           )}
         </div>
       </div>

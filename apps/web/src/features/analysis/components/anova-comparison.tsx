@@ -5,19 +5,19 @@ import { num, pValue } from './format.js';
 
 function AnovaTable({ caption, rows, testId }: { caption: string; rows: AnovaRow[]; testId: string }) {
   return (
-    <div className="min-w-0 flex-1">
+    <div className="min-w-0">
       <h3 className="mb-2 text-sm font-semibold text-ink">{caption}</h3>
       <Table data-testid={testId}>
         <caption className="sr-only">{caption}</caption>
         <THead>
           <TR>
-            <TH>Source</TH>
-            <TH className="text-right">df</TH>
-            <TH className="text-right">SS</TH>
-            <TH className="text-right">MS</TH>
-            <TH className="text-right">F</TH>
-            <TH className="text-right">p</TH>
-            <TH className="text-right">
+            <TH className="px-2.5">Source</TH>
+            <TH className="px-2.5 text-right">df</TH>
+            <TH className="px-2.5 text-right">SS</TH>
+            <TH className="px-2.5 text-right">MS</TH>
+            <TH className="px-2.5 text-right">F</TH>
+            <TH className="px-2.5 text-right">p</TH>
+            <TH className="px-2.5 text-right">
               <abbr title="partial eta squared = SS effect / (SS effect + SS error)">η²p</abbr>
             </TH>
           </TR>
@@ -34,12 +34,14 @@ function AnovaTable({ caption, rows, testId }: { caption: string; rows: AnovaRow
               >
                 {r.label}
               </TH>
-              <TD className="figure py-2 text-right">{r.df}</TD>
-              <TD className="figure py-2 text-right">{num(r.ss, 1)}</TD>
-              <TD className="figure py-2 text-right">{num(r.ms, 1)}</TD>
-              <TD className="figure py-2 text-right">{num(r.f, 2)}</TD>
-              <TD className="figure py-2 text-right">{pValue(r.p)}</TD>
-              <TD className="figure py-2 text-right">{num(r.partialEtaSquared, 3)}</TD>
+              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{r.df}</TD>
+              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{num(r.ss, 1)}</TD>
+              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{num(r.ms, 1)}</TD>
+              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{num(r.f, 2)}</TD>
+              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{pValue(r.p)}</TD>
+              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">
+                {num(r.partialEtaSquared, 3)}
+              </TD>
             </TR>
           ))}
         </TBody>
@@ -57,7 +59,7 @@ export function AnovaComparison({ result }: { result: RunResult }) {
         title="Without and with the covariates"
         description={`Error mean square ${num(result.unadjusted.errorMeanSquare, 1)} without covariates, ${num(result.adjusted.errorMeanSquare, 1)} with them: ${shrink >= 0 ? `${(shrink * 100).toFixed(0)}% smaller` : `${(-shrink * 100).toFixed(0)}% larger`}. Arm effect F ${num(result.groupEffect.unadjusted.f)} (p ${pValue(result.groupEffect.unadjusted.p)}) becomes F ${num(result.groupEffect.adjusted.f)} (p ${pValue(result.groupEffect.adjusted.p)}).`}
       />
-      <CardBody className="flex flex-col gap-5 xl:flex-row">
+      <CardBody className="grid gap-5 xl:grid-cols-[minmax(0,2fr)_minmax(0,3fr)]">
         <AnovaTable caption="One-way ANOVA (arm only)" rows={result.unadjusted.rows} testId="anova-table" />
         <AnovaTable
           caption="ANCOVA (Type III sums of squares)"
@@ -90,11 +92,11 @@ export function EstimatesTables({ result }: { result: RunResult }) {
           <THead>
             <TR>
               <TH>Arm</TH>
-              <TH className="text-right">n</TH>
-              <TH className="text-right">Raw mean</TH>
-              <TH className="text-right">Adjusted</TH>
-              <TH className="text-right">SE</TH>
-              <TH className="text-right">{level} CI</TH>
+              <TH className="px-2.5 text-right">n</TH>
+              <TH className="px-2.5 text-right">Raw mean</TH>
+              <TH className="px-2.5 text-right">Adjusted</TH>
+              <TH className="px-2.5 text-right">SE</TH>
+              <TH className="px-2.5 text-right">{level} CI</TH>
             </TR>
           </THead>
           <TBody>
@@ -104,11 +106,11 @@ export function EstimatesTables({ result }: { result: RunResult }) {
                   <span className="figure font-semibold">{m.code}</span>{' '}
                   <span className="text-graphite">{m.name}</span>
                 </TD>
-                <TD className="figure text-right">{m.n}</TD>
-                <TD className="figure text-right">{num(m.rawMean, 1)}</TD>
-                <TD className="figure text-right font-semibold">{num(m.mean, 1)}</TD>
-                <TD className="figure text-right">{num(m.se, 2)}</TD>
-                <TD className="figure text-right">
+                <TD className="figure px-2.5 text-right whitespace-nowrap">{m.n}</TD>
+                <TD className="figure px-2.5 text-right whitespace-nowrap">{num(m.rawMean, 1)}</TD>
+                <TD className="figure px-2.5 text-right font-semibold whitespace-nowrap">{num(m.mean, 1)}</TD>
+                <TD className="figure px-2.5 text-right whitespace-nowrap">{num(m.se, 2)}</TD>
+                <TD className="figure px-2.5 text-right whitespace-nowrap">
                   {num(m.lower, 1)} to {num(m.upper, 1)}
                 </TD>
               </TR>
@@ -128,27 +130,29 @@ export function EstimatesTables({ result }: { result: RunResult }) {
         ))}
       </div>
       <div>
-        <h3 className="mb-2 text-sm font-semibold text-ink">Pooled within-arm slopes</h3>
+        <h3 className="mb-2 text-sm font-semibold text-ink">
+          Pooled within-arm slopes (and factor coefficients)
+        </h3>
         <Table data-testid="slopes-table">
           <THead>
             <TR>
               <TH>Covariate column</TH>
-              <TH className="text-right">Slope</TH>
-              <TH className="text-right">SE</TH>
-              <TH className="text-right">{level} CI</TH>
-              <TH className="text-right">p</TH>
+              <TH className="px-2.5 text-right">Slope</TH>
+              <TH className="px-2.5 text-right">SE</TH>
+              <TH className="px-2.5 text-right">{level} CI</TH>
+              <TH className="px-2.5 text-right">p</TH>
             </TR>
           </THead>
           <TBody>
             {result.slopes.map((s) => (
               <TR key={s.column}>
                 <TD>{s.label}</TD>
-                <TD className="figure text-right">{num(s.estimate, 3)}</TD>
-                <TD className="figure text-right">{num(s.se, 3)}</TD>
-                <TD className="figure text-right">
+                <TD className="figure px-2.5 text-right whitespace-nowrap">{num(s.estimate, 3)}</TD>
+                <TD className="figure px-2.5 text-right whitespace-nowrap">{num(s.se, 3)}</TD>
+                <TD className="figure px-2.5 text-right whitespace-nowrap">
                   {num(s.lower, 3)} to {num(s.upper, 3)}
                 </TD>
-                <TD className="figure text-right">{pValue(s.p)}</TD>
+                <TD className="figure px-2.5 text-right whitespace-nowrap">{pValue(s.p)}</TD>
               </TR>
             ))}
           </TBody>

@@ -25,6 +25,7 @@ export function AdjustedMeansChart({ result }: { result: RunResult }) {
   const y = scaleBand<string>({ domain: rows.map((r) => r.code), range: [0, innerH], padding: 0.3 });
   const level = `${Math.round(result.confidenceLevel * 100)}%`;
   const unit = result.spec.outcome.unit ? ` ${result.spec.outcome.unit}` : '';
+  const axisUnit = result.spec.outcome.unit ? ` (${result.spec.outcome.unit})` : '';
   const alt =
     `Adjusted means of ${result.spec.outcome.label} with ${level} confidence intervals: ` +
     rows
@@ -77,7 +78,7 @@ export function AdjustedMeansChart({ result }: { result: RunResult }) {
             stroke={chartColors.graphite}
             tickStroke={chartColors.graphite}
             tickLabelProps={() => ({ ...axisTickLabel, textAnchor: 'middle' })}
-            label={`${result.spec.outcome.label}${unit}`}
+            label={`${result.spec.outcome.label}${axisUnit}`}
             labelProps={{ fill: chartColors.graphite, fontSize: 12, textAnchor: 'middle' }}
           />
         </Group>

@@ -12,7 +12,12 @@ import { useCreateAnalysisRun } from '../api/create-analysis-run.js';
 import { useAnalysisRuns } from '../api/get-analysis-runs.js';
 import { num, pValue, utcTime } from './format.js';
 
-type Props = { studyId: string; data: SpecResponse; selected: string | null; onSelect: (runId: string) => void };
+type Props = {
+  studyId: string;
+  data: SpecResponse;
+  selected: string | null;
+  onSelect: (runId: string) => void;
+};
 
 /** Starts a run (a reason when it is exploratory) and lists earlier runs to open. */
 export function RunPanel({ studyId, data, selected, onSelect }: Props) {
@@ -21,7 +26,9 @@ export function RunPanel({ studyId, data, selected, onSelect }: Props) {
   const runs = useAnalysisRuns(studyId);
   const current = data.current;
   const exploratory = data.nextRunExploratory;
-  const reasonIssue = isApiError(create.error, 'validation_failed') ? create.error.fieldIssues().find((i) => i.path[0] === 'reason')?.message : undefined;
+  const reasonIssue = isApiError(create.error, 'validation_failed')
+    ? create.error.fieldIssues().find((i) => i.path[0] === 'reason')?.message
+    : undefined;
 
   return (
     <Card data-testid="run-panel">
@@ -32,7 +39,13 @@ export function RunPanel({ studyId, data, selected, onSelect }: Props) {
             ? `Version ${current.version} (${current.status}) on the outcomes recorded now.`
             : 'Save a specification first.'
         }
-        actions={current && <Badge tone={exploratory ? 'ochre' : 'moss'}>{exploratory ? 'Next run: exploratory' : 'Next run: primary'}</Badge>}
+        actions={
+          current && (
+            <Badge tone={exploratory ? 'ochre' : 'moss'}>
+              {exploratory ? 'Next run: exploratory' : 'Next run: primary'}
+            </Badge>
+          )
+        }
       />
       <CardBody>
         <form
@@ -63,7 +76,11 @@ export function RunPanel({ studyId, data, selected, onSelect }: Props) {
           )}
           <FormAlert message={create.isError && !reasonIssue ? errorMessage(create.error) : null} />
           <div>
-            <Button type="submit" disabled={!current || (exploratory && reason.trim().length < 3)} busy={create.isPending}>
+            <Button
+              type="submit"
+              disabled={!current || (exploratory && reason.trim().length < 3)}
+              busy={create.isPending}
+            >
               {exploratory ? 'Run as exploratory' : 'Run the pre-specified analysis'}
             </Button>
           </div>
@@ -87,15 +104,30 @@ export function RunPanel({ studyId, data, selected, onSelect }: Props) {
               </THead>
               <TBody>
                 {runs.data.runs.map((r) => (
-                  <TR key={r.id} aria-current={r.id === selected ? 'true' : undefined} className={r.id === selected ? 'bg-spruce-wash/40' : undefined}>
+                  <TR
+                    key={r.id}
+                    aria-current={r.id === selected ? 'true' : undefined}
+                    className={r.id === selected ? 'bg-spruce-wash/40' : undefined}
+                  >
                     <TD className="figure">{utcTime(r.runAt)}</TD>
                     <TD className="figure">{r.specVersion}</TD>
-                    <TD>{r.exploratory ? <Badge tone="ochre">exploratory</Badge> : <Badge tone="moss">primary</Badge>}</TD>
+                    <TD>
+                      {r.exploratory ? (
+                        <Badge tone="ochre">exploratory</Badge>
+                      ) : (
+                        <Badge tone="moss">primary</Badge>
+                      )}
+                    </TD>
                     <TD className="figure text-right">{r.analysed}</TD>
                     <TD className="figure text-right">{num(r.groupF)}</TD>
                     <TD className="figure text-right">{pValue(r.groupP)}</TD>
                     <TD>
-                      <Button variant="quiet" size="sm" onClick={() => onSelect(r.id)} aria-label={`Open the run of ${utcTime(r.runAt)}`}>
+                      <Button
+                        variant="quiet"
+                        size="sm"
+                        onClick={() => onSelect(r.id)}
+                        aria-label={`Open the run of ${utcTime(r.runAt)}`}
+                      >
                         Open
                       </Button>
                     </TD>

@@ -20,31 +20,44 @@ export function RunResults({ run }: { run: RunDto }) {
         <h2 id="run-heading" className="text-lg font-semibold text-ink">
           Results of the run of {utcTime(run.runAt)}
         </h2>
-        <Badge tone={run.exploratory ? 'ochre' : 'moss'}>{run.exploratory ? 'Exploratory' : 'Primary (pre-specified)'}</Badge>
+        <Badge tone={run.exploratory ? 'ochre' : 'moss'}>
+          {run.exploratory ? 'Exploratory' : 'Primary (pre-specified)'}
+        </Badge>
         <Badge>Specification version {run.specVersion}</Badge>
       </div>
       <p className="text-sm text-graphite">
-        Run by {run.runBy.name}. {r.data.analysed} of {r.data.itt} participants analysed ({r.data.missingOutcome} without the outcome,{' '}
-        {r.data.missingCovariate} without a covariate). {r.data.method}
+        Run by {run.runBy.name}. {r.data.analysed} of {r.data.itt} participants analysed (
+        {r.data.missingOutcome} without the outcome, {r.data.missingCovariate} without a covariate).{' '}
+        {r.data.method}
         {run.reason && <> Reason given: &ldquo;{run.reason}&rdquo;.</>}
       </p>
       <StatisticianCaution />
       <CautionsPanel cautions={r.cautions} />
       {r.model.blocked.length > 0 && (
         <p className="text-sm text-brick">
-          Kept out of the model: {r.model.blocked.map((b) => `${b.label} (${b.valuesAfterRandomization} values after randomization)`).join(', ')}.
+          Kept out of the model:{' '}
+          {r.model.blocked
+            .map((b) => `${b.label} (${b.valuesAfterRandomization} values after randomization)`)
+            .join(', ')}
+          .
         </p>
       )}
       <AnovaComparison result={r} />
       <Card>
-        <CardHeader title="Adjusted means and slopes" description={`Arm means corrected to the covariate means, with ${Math.round(r.confidenceLevel * 100)}% confidence intervals.`} />
+        <CardHeader
+          title="Adjusted means and slopes"
+          description={`Arm means corrected to the covariate means, with ${Math.round(r.confidenceLevel * 100)}% confidence intervals.`}
+        />
         <CardBody className="flex flex-col gap-5">
           <AdjustedMeansChart result={r} />
           <EstimatesTables result={r} />
         </CardBody>
       </Card>
       <Card>
-        <CardHeader title="Where the variation goes" description={`Partial η² of the arm effect: ${num(r.groupEffect.adjusted.partialEtaSquared, 3)}.`} />
+        <CardHeader
+          title="Where the variation goes"
+          description={`Partial η² of the arm effect: ${num(r.groupEffect.adjusted.partialEtaSquared, 3)}.`}
+        />
         <CardBody>
           <VariancePartitionBar result={r} />
         </CardBody>
@@ -59,14 +72,21 @@ export function RunResults({ run }: { run: RunDto }) {
       </Card>
       {r.linearity && (
         <Card>
-          <CardHeader title="Linearity and slopes by arm" description={`Outcome against ${r.linearity.covariate.label}.`} />
+          <CardHeader
+            title="Linearity and slopes by arm"
+            description={`Outcome against ${r.linearity.covariate.label}.`}
+          />
           <CardBody>
             <LinearityChart linearity={r.linearity} outcome={r.spec.outcome} />
             {r.slopeHomogeneity && (
               <p className="mt-3 text-sm text-ink">
                 Own slope per arm:{' '}
-                {r.slopeHomogeneity.groupSlopes.map((g) => `${g.code} ${num(g.slope, 3)} on ${g.covariate}`).join('; ')}. Interaction F(
-                {r.slopeHomogeneity.df1}, {r.slopeHomogeneity.df2}) = {num(r.slopeHomogeneity.f)}, p {pValue(r.slopeHomogeneity.p)}.
+                {r.slopeHomogeneity.groupSlopes
+                  .map((g) => `${g.code} ${num(g.slope, 3)} on ${g.covariate}`)
+                  .join('; ')}
+                . Interaction F(
+                {r.slopeHomogeneity.df1}, {r.slopeHomogeneity.df2}) = {num(r.slopeHomogeneity.f)}, p{' '}
+                {pValue(r.slopeHomogeneity.p)}.
               </p>
             )}
           </CardBody>
@@ -74,7 +94,10 @@ export function RunResults({ run }: { run: RunDto }) {
       )}
       {r.changeScore && (
         <Card data-testid="change-score">
-          <CardHeader title="Change-score analysis beside the ANCOVA" description="Shown for non-randomized groups (Lord's paradox)." />
+          <CardHeader
+            title="Change-score analysis beside the ANCOVA"
+            description="Shown for non-randomized groups (Lord's paradox)."
+          />
           <CardBody className="flex flex-col gap-3">
             <Table>
               <THead>
@@ -97,9 +120,11 @@ export function RunResults({ run }: { run: RunDto }) {
               </TBody>
             </Table>
             <p className="text-sm text-ink">
-              Difference in mean change {r.changeScore.difference.a} minus {r.changeScore.difference.b}: {num(r.changeScore.difference.estimate)} (
-              {num(r.changeScore.difference.lower)} to {num(r.changeScore.difference.upper)}); ANCOVA adjusted difference{' '}
-              {num(r.changeScore.ancovaDifference)}.{r.changeScore.baselineSmd !== null && <> Baseline SMD {num(r.changeScore.baselineSmd)}.</>}
+              Difference in mean change {r.changeScore.difference.a} minus {r.changeScore.difference.b}:{' '}
+              {num(r.changeScore.difference.estimate)} ({num(r.changeScore.difference.lower)} to{' '}
+              {num(r.changeScore.difference.upper)}); ANCOVA adjusted difference{' '}
+              {num(r.changeScore.ancovaDifference)}.
+              {r.changeScore.baselineSmd !== null && <> Baseline SMD {num(r.changeScore.baselineSmd)}.</>}
             </p>
             <p className="text-sm text-graphite">{r.changeScore.explanation}</p>
           </CardBody>
