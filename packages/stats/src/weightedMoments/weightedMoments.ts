@@ -12,8 +12,10 @@ import { checkedSum, checkedWeights } from '../inputChecks/inputChecks.js';
  * which equals the unweighted (n - 1) variance when all weights are equal, and is unchanged
  * when every weight is multiplied by the same constant.
  *
- * Algorithm: corrected two-pass (Chan, Golub & LeVeque, Am Stat 1983;37:242): the second pass
- * subtracts (sum w (x - m))^2 / sum(w), which removes the rounding error of the first-pass mean.
+ * Algorithm: corrected two-pass (Chan, Golub & LeVeque, Am Stat 1983;37:242) on x - K for a shift
+ * K (the arm's first value unless the caller passes one, e.g. one shift shared by two arms): the
+ * second pass subtracts (sum w (x - K - m))^2 / sum(w), which removes the rounding error of the
+ * first-pass mean, and x - K is exact for values near K, so a large common offset costs no digits.
  *
  * @throws {TypeError} values or weights not arrays of numbers.
  * @throws {RangeError} fewer than `minLength` values, a non-finite value, weights of the wrong
