@@ -3,8 +3,6 @@ import {
   armSql,
   codeValue,
   isCounted,
-  levelValueSql,
-  numericValueSql,
   rows,
   type Queryable,
   type StudyConfig,
@@ -67,12 +65,13 @@ export function applyContribution(set: AccumulatorSet, c: Contribution, sign: 1 
 type AggregateRow = {
   site_id: string;
   arm_id: string;
-  covariate_key: string;
-  level: string;
-  n_num: number;
+  covariate_id: string | null;
+  value_text: string | null;
+  value_key: number | null;
   n_all: number;
+  n_num: number;
   mean: number | null;
-  m2: number | null;
+  var: number | null;
 };
 
 /**
@@ -81,53 +80,62 @@ type AggregateRow = {
  * committed meanwhile stays logged for the next (incremental) run.
  *
  * n, mean and M2 = (n - 1) * var_samp are PostgreSQL's float8 aggregates (Youngs-Cramer
- * updates); they become MomentAccumulator states, which merge and update exactly as if every
- * value had been added one by one.
+ * updates); they become MomentAccumulator states, merged with Chan et al.'s formula where
+ * several groups feed one cell, and then update exactly as if every value had been added one by
+ * one.
  */
 export async function aggregateAll(db: Queryable, config: StudyConfig): Promise<AccumulatorSet> {
-  // One hash aggregate over the join; covariates grouped by id (uuid comparisons are far cheaper than text keys).
+  // One hash aggregate over the join, on the raw columns: per (site, arm, covariate, text, number
+  // for non-continuous kinds) a count, mean and M2. Decoding by kind happens per group in Node
+  // (a few thousand groups) rather than per value in SQL (millions), with the same codeValue rule
+  // the incremental path uses.
   const data = await rows<AggregateRow>(
     db,
     `WITH consumed AS (DELETE FROM balance_change WHERE study_id = $1 RETURNING id)
-     SELECT p.site_id, ${armSql(config.kind)} AS arm_id, b.covariate_id::text AS covariate_key,
-            COALESCE(${levelValueSql}, '') AS level,
-            count(${numericValueSql})::int AS n_num, count(*)::int AS n_all,
-            avg(${numericValueSql}) AS mean,
-            CASE WHEN count(${numericValueSql}) > 1 THEN var_samp(${numericValueSql}) * (count(${numericValueSql}) - 1) ELSE 0 END AS m2
+     SELECT p.site_id, ${armSql(config.kind)} AS arm_id, b.covariate_id, b.value_text,
+            CASE WHEN c.kind <> 'continuous' THEN b.value_number END AS value_key,
+            count(*)::int AS n_all, count(b.value_number)::int AS n_num, avg(b.value_number) AS mean,
+            var_samp(b.value_number) AS var
        FROM participant p
        LEFT JOIN allocation a ON a.participant_id = p.id
        JOIN baseline_value b ON b.participant_id = p.id
        JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1
       WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
-      GROUP BY 1, 2, 3, 4
+      GROUP BY 1, 2, 3, 4, 5
      UNION ALL
-     SELECT p.site_id, ${armSql(config.kind)}, '', '', 0, count(*)::int, 1, 0
+     SELECT p.site_id, ${armSql(config.kind)}, NULL, NULL, NULL, count(*)::int, 0, NULL, NULL
        FROM participant p LEFT JOIN allocation a ON a.participant_id = p.id
       WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
       GROUP BY 1, 2`,
     [config.id],
   );
-  const keyOf = new Map(config.covariates.map((c) => [c.id, c]));
+  const covById = new Map(config.covariates.map((c) => [c.id, c]));
   const set = new AccumulatorSet();
+  const mergeInto = (siteId: string, armId: string, covariateKey: string, level: string, state: AccumulatorState) => {
+    const incoming = MomentAccumulator.fromState(state);
+    const existing = set.get(siteId, armId, covariateKey, level);
+    if (existing) existing.merge(incoming);
+    else set.set({ siteId, armId, covariateKey, level }, incoming);
+  };
+  const constant = (n: number, x: number): AccumulatorState => ({ version: 1, n, sumWeights: n, sumSquaredWeights: n, mean: x, m2: 0 });
   for (const r of data) {
-    let key = '';
-    let n = r.n_all;
-    let mean = 1;
-    let m2 = 0;
-    if (r.covariate_key !== '') {
-      const cov = keyOf.get(r.covariate_key);
-      if (!cov) continue;
-      key = cov.key;
-      if (cov.kind !== 'categorical') {
-        // Rows whose value is not readable for the kind (n_num < n_all) count as missing.
-        n = r.n_num;
-        mean = r.mean ?? 0;
-        m2 = Math.max(0, r.m2 ?? 0);
-      } else if (r.level === '') continue;
+    if (r.covariate_id === null) {
+      mergeInto(r.site_id, r.arm_id, '', '', constant(r.n_all, 1));
+      continue;
     }
-    if (n === 0) continue;
-    const state: AccumulatorState = { version: 1, n, sumWeights: n, sumSquaredWeights: n, mean, m2 };
-    set.set({ siteId: r.site_id, armId: r.arm_id, covariateKey: key, level: r.level }, MomentAccumulator.fromState(state));
+    const cov = covById.get(r.covariate_id);
+    if (!cov) continue;
+    if (cov.kind === 'continuous') {
+      if (r.n_num === 0) continue;
+      const m2 = r.n_num > 1 ? Math.max(0, (r.var ?? 0) * (r.n_num - 1)) : 0;
+      mergeInto(r.site_id, r.arm_id, cov.key, '', { version: 1, n: r.n_num, sumWeights: r.n_num, sumSquaredWeights: r.n_num, mean: r.mean!, m2 });
+      continue;
+    }
+    // Every row of this group has the same (number, text), hence the same coded value.
+    const v = codeValue(cov.kind, r.value_key, r.value_text);
+    if (v === null) continue;
+    if (typeof v === 'number') mergeInto(r.site_id, r.arm_id, cov.key, '', constant(r.n_all, v));
+    else mergeInto(r.site_id, r.arm_id, cov.key, v, constant(r.n_all, 1));
   }
   for (const id of set.cells.keys()) set.dirty.add(id);
   return set;

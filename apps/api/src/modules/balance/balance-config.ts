@@ -123,8 +123,8 @@ const NO = new Set(['0', 'no', 'n', 'false']);
 
 /**
  * The value a baseline row contributes, by covariate kind: a number (continuous; binary 0/1), a
- * level (categorical), or null (missing or not readable). `codedValueSql` is the same rule in SQL;
- * the two must stay in step (the recompute test compares them).
+ * level (categorical), or null (missing or not readable). Both the full rebuild (per group of
+ * equal raw values) and the incremental path (per value) decode through this one function.
  */
 export function codeValue(kind: CovariateKind, valueNumber: number | null, valueText: string | null): number | string | null {
   if (kind === 'continuous') return valueNumber !== null && Number.isFinite(valueNumber) ? valueNumber : null;
@@ -137,22 +137,10 @@ export function codeValue(kind: CovariateKind, valueNumber: number | null, value
     }
     return null;
   }
-  // A blank level is missing, as in levelValueSql.
+  // A blank level is missing.
   if (valueText !== null && valueText !== '') return valueText;
   return valueNumber !== null ? String(valueNumber) : null;
 }
-
-/** SQL for the numeric value (continuous, binary) of baseline row `b` of covariate `c`. */
-export const numericValueSql = `CASE c.kind
-  WHEN 'continuous' THEN b.value_number
-  WHEN 'binary' THEN CASE
-    WHEN b.value_number IN (0, 1) THEN b.value_number
-    WHEN b.value_number IS NULL AND lower(btrim(b.value_text)) IN ('1', 'yes', 'y', 'true') THEN 1
-    WHEN b.value_number IS NULL AND lower(btrim(b.value_text)) IN ('0', 'no', 'n', 'false') THEN 0
-  END
-END`;
-/** SQL for the level of a categorical baseline row. */
-export const levelValueSql = `CASE WHEN c.kind = 'categorical' THEN COALESCE(NULLIF(b.value_text, ''), b.value_number::text) END`;
 
 /** SQL expression for the arm a participant `p` counts in: the allocation in a trial, the recorded exposure in a cohort. */
 export const armSql = (kind: StudyConfig['kind']) => (kind === 'randomized_trial' ? 'a.arm_id' : 'p.exposure_arm_id');

@@ -1,5 +1,5 @@
 import type { QuantileSet } from './balance-compute.js';
-import { armSql, numericValueSql, rows, type Queryable, type StudyConfig } from './balance-config.js';
+import { armSql, rows, type Queryable, type StudyConfig } from './balance-config.js';
 
 /**
  * Medians, quartiles and range of every continuous covariate per arm and pooled, from all rows.
@@ -25,7 +25,7 @@ export async function computeQuantiles(db: Queryable, config: StudyConfig): Prom
        JOIN baseline_value b ON b.participant_id = p.id
        JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1 AND c.kind = 'continuous'
       WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(config.kind)} IS NOT NULL
-        AND (${numericValueSql}) IS NOT NULL
+        AND b.value_number IS NOT NULL
       GROUP BY GROUPING SETS ((b.covariate_id, ${armSql(config.kind)}), (b.covariate_id))`,
     [config.id],
   );

@@ -29,10 +29,17 @@ export const recomputePayloadSchema = z.object({
   reason: z.string().max(200).default('change'),
   /** Rebuild the accumulators from all rows (also implied by a design change or a manual request). */
   full: z.boolean().optional(),
+  /** Recompute medians and quartiles from all rows in this run (queued after a full rebuild of a large study). */
+  quantiles: z.boolean().optional(),
 });
 export type RecomputePayload = z.input<typeof recomputePayloadSchema>;
 
-/** Medians and quartiles are recomputed on every run up to this many participants, otherwise on full runs. */
+/**
+ * Medians and quartiles (exact order statistics, one sort per covariate and arm) are recomputed
+ * in every run up to this many participants. Above it, runs carry the last ones over (their
+ * time is in the snapshot) and a full rebuild queues a separate quantile run, so the moments,
+ * SMDs and alerts of a large study are not held up by the sorts.
+ */
 export const QUANTILES_EVERY_RUN_UP_TO = 20_000;
 /** A full rebuild is forced once this share of participants changed since the last one (keeps carried-over quantiles close). */
 export const FULL_AFTER_CHANGED_SHARE = 0.05;
@@ -46,6 +53,8 @@ export type RecomputeHooks = {
   afterSnapshotWrite?: () => Promise<void>;
   /** Called after the transaction committed, before the e-mails are sent (tests). */
   beforeMail?: () => Promise<void>;
+  /** Overrides QUANTILES_EVERY_RUN_UP_TO (tests). */
+  quantilesEveryRunUpTo?: number;
 };
 
 export type RecomputeResult = {
@@ -137,12 +146,15 @@ async function runInTransaction(
       .reduce((s, c) => s + c.acc.n, 0);
     let quantiles: QuantileSet;
     let quantilesAt: Date;
-    if (full || enrolledNow <= QUANTILES_EVERY_RUN_UP_TO || !state) {
+    if (!state || enrolledNow <= (opts.hooks?.quantilesEveryRunUpTo ?? QUANTILES_EVERY_RUN_UP_TO) || payload.quantiles === true) {
       quantiles = await computeQuantiles(tx, config);
       quantilesAt = now;
     } else {
       quantiles = state.quantiles;
       quantilesAt = new Date(state.quantiles_computed_at);
+      if (full) {
+        await ctx.jobs.send(tx, BALANCE_QUEUE, { studyId: config.id, reason: 'quantiles', quantiles: true }, { singletonKey: `quantiles:${config.id}` });
+      }
     }
     const weighting = config.kind === 'observational_cohort' ? computeWeighting(config, await loadWeightingRows(tx, config)) : null;
 

@@ -18,7 +18,7 @@ export async function recomputePending(db: Queryable, studyId: string): Promise<
     db,
     `SELECT EXISTS (
        SELECT 1 FROM pgboss.job
-        WHERE name = 'balance.recompute' AND singleton_key IN ($1, 'full:' || $1)
+        WHERE name = 'balance.recompute' AND singleton_key IN ($1, 'full:' || $1, 'quantiles:' || $1)
           AND state IN ('created', 'retry', 'active')) AS pending`,
     [studyId],
   );
@@ -40,7 +40,7 @@ export async function latestHead(db: Queryable, studyId: string): Promise<Snapsh
   const [r] = await rows<{ id: string; computed_at: Date; enrolled_count: number; pending: boolean }>(
     db,
     `SELECT s.id, s.computed_at, s.enrolled_count,
-            EXISTS (SELECT 1 FROM pgboss.job j WHERE j.name = 'balance.recompute' AND j.singleton_key IN ($2, 'full:' || $2)
+            EXISTS (SELECT 1 FROM pgboss.job j WHERE j.name = 'balance.recompute' AND j.singleton_key IN ($2, 'full:' || $2, 'quantiles:' || $2)
                       AND j.state IN ('created', 'retry', 'active')) AS pending
        FROM balance_snapshot s WHERE s.study_id = $1 ORDER BY s.computed_at DESC LIMIT 1`,
     [studyId, studyId],

@@ -9,6 +9,7 @@ import type { BalanceArmsView } from '@counterpoise/contracts/balance';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestContext, type TestContext } from '../../../test/harness.js';
 import { armsText, latestHead } from '../balance.service.js';
+import { recomputeBalance } from '../balance-recompute.job.js';
 import {
   correct,
   createBalanceStudy,
@@ -215,5 +216,46 @@ describe('balance.recompute job', () => {
     expect(snap.body.comparisonNote).toMatch(/pairwise with the reference arm A/);
     for (const c of snap.body.covariates) expect(c.balance.comparisons.map((x) => x.armId)).toEqual(study.armIds.slice(1));
     checkScope(study, snap.body, await readCounted(t, study), true, '3 arms');
+  });
+});
+
+describe('medians and quartiles of a large study', () => {
+  let t: TestContext;
+  beforeAll(async () => {
+    t = await createTestContext();
+  });
+  afterAll(async () => {
+    await t.close();
+  });
+
+  it('when a study is above the every-run limit, then incremental runs carry the quantiles over, a full rebuild queues a quantile run, and that run brings them up to date', async () => {
+    const study = await createBalanceStudy(t, { sites: ['S1', 'S2'], covariates: COVS });
+    const r = rng(31);
+    await enroll(t, study, Array.from({ length: 40 }, () => person(r, 2, 2)));
+    const small = { hooks: { quantilesEveryRunUpTo: 10 } };
+    await recomputeBalance(t.ctx, { studyId: study.id, reason: 'import' }, small);
+    const first = await latest(t, study);
+    checkScope(study, first.body, await readCounted(t, study), true, 'first run');
+
+    // An outlier enrolled: the incremental run updates the moments but keeps the old medians.
+    await enroll(t, study, [{ site: 0, arm: 0, values: { age: 140, fev1: 2, smoker: 0, region: 'north' } }, { site: 0, arm: 0, values: { age: 141, fev1: 2, smoker: 0, region: 'north' } }]);
+    await recomputeBalance(t.ctx, { studyId: study.id, reason: 'enrollment' }, small);
+    const carried = await latest(t, study);
+    expect(carried.kind).toBe('incremental');
+    expect(carried.body.snapshot.quantilesComputedAt).toBe(first.body.snapshot.quantilesComputedAt);
+    const arm0 = (v: BalanceArmsView) => v.covariates.find((c) => c.key === 'age')!.balance.byArm[0]!.summary;
+    expect(arm0(carried.body).median).toBe(arm0(first.body).median);
+    expect(arm0(carried.body).n).toBe(arm0(first.body).n + 2);
+
+    await recomputeBalance(t.ctx, { studyId: study.id, reason: 'manual', full: true }, small);
+    const queued = (await t.ctx.ds.query(
+      `SELECT data FROM pgboss.job WHERE name = 'balance.recompute' AND singleton_key = $1 AND state = 'created'`,
+      [`quantiles:${study.id}`],
+    )) as { data: { quantiles: boolean } }[];
+    expect(queued.map((q) => q.data.quantiles)).toEqual([true]);
+    await recomputeBalance(t.ctx, queued[0]!.data as unknown as { studyId: string; quantiles: boolean }, small);
+    const refreshed = await latest(t, study);
+    expect(refreshed.body.snapshot.quantilesComputedAt > first.body.snapshot.quantilesComputedAt).toBe(true);
+    checkScope(study, refreshed.body, await readCounted(t, study), true, 'after the quantile run');
   });
 });
