@@ -3,6 +3,9 @@ import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
 import { Table, TBody, TD, TH, THead, TR } from '../../../components/ui/table.js';
 import { num, pValue } from './format.js';
 
+/** Large sums of squares without decimals, so both tables fit side by side. */
+const sumOfSquares = (x: number | null) => num(x, x !== null && Math.abs(x) >= 1000 ? 0 : 1);
+
 function AnovaTable({ caption, rows, testId }: { caption: string; rows: AnovaRow[]; testId: string }) {
   return (
     <div className="min-w-0">
@@ -11,13 +14,13 @@ function AnovaTable({ caption, rows, testId }: { caption: string; rows: AnovaRow
         <caption className="sr-only">{caption}</caption>
         <THead>
           <TR>
-            <TH className="px-2.5">Source</TH>
-            <TH className="px-2.5 text-right">df</TH>
-            <TH className="px-2.5 text-right">SS</TH>
-            <TH className="px-2.5 text-right">MS</TH>
-            <TH className="px-2.5 text-right">F</TH>
-            <TH className="px-2.5 text-right">p</TH>
-            <TH className="px-2.5 text-right">
+            <TH className="px-2">Source</TH>
+            <TH className="px-2 text-right">df</TH>
+            <TH className="px-2 text-right">SS</TH>
+            <TH className="px-2 text-right">MS</TH>
+            <TH className="px-2 text-right">F</TH>
+            <TH className="px-2 text-right">p</TH>
+            <TH className="px-2 text-right" style={{ textTransform: 'none' }}>
               <abbr title="partial eta squared = SS effect / (SS effect + SS error)">η²p</abbr>
             </TH>
           </TR>
@@ -28,18 +31,15 @@ function AnovaTable({ caption, rows, testId }: { caption: string; rows: AnovaRow
               key={r.source}
               className={r.source === 'group' ? 'bg-spruce-wash/50 font-semibold' : undefined}
             >
-              <TH
-                scope="row"
-                className="py-2 text-left text-sm font-medium tracking-normal text-ink normal-case"
-              >
+              <th scope="row" className="px-2 py-2 text-left text-sm font-medium text-ink">
                 {r.label}
-              </TH>
-              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{r.df}</TD>
-              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{num(r.ss, 1)}</TD>
-              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{num(r.ms, 1)}</TD>
-              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{num(r.f, 2)}</TD>
-              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">{pValue(r.p)}</TD>
-              <TD className="figure px-2.5 py-2 text-right whitespace-nowrap">
+              </th>
+              <TD className="figure px-2 py-2 text-right whitespace-nowrap">{r.df}</TD>
+              <TD className="figure px-2 py-2 text-right whitespace-nowrap">{sumOfSquares(r.ss)}</TD>
+              <TD className="figure px-2 py-2 text-right whitespace-nowrap">{sumOfSquares(r.ms)}</TD>
+              <TD className="figure px-2 py-2 text-right whitespace-nowrap">{num(r.f, 2)}</TD>
+              <TD className="figure px-2 py-2 text-right whitespace-nowrap">{pValue(r.p)}</TD>
+              <TD className="figure px-2 py-2 text-right whitespace-nowrap">
                 {num(r.partialEtaSquared, 3)}
               </TD>
             </TR>
@@ -59,7 +59,7 @@ export function AnovaComparison({ result }: { result: RunResult }) {
         title="Without and with the covariates"
         description={`Error mean square ${num(result.unadjusted.errorMeanSquare, 1)} without covariates, ${num(result.adjusted.errorMeanSquare, 1)} with them: ${shrink >= 0 ? `${(shrink * 100).toFixed(0)}% smaller` : `${(-shrink * 100).toFixed(0)}% larger`}. Arm effect F ${num(result.groupEffect.unadjusted.f)} (p ${pValue(result.groupEffect.unadjusted.p)}) becomes F ${num(result.groupEffect.adjusted.f)} (p ${pValue(result.groupEffect.adjusted.p)}).`}
       />
-      <CardBody className="grid gap-5 xl:grid-cols-[minmax(0,2fr)_minmax(0,3fr)]">
+      <CardBody className="grid gap-5 xl:grid-cols-[minmax(0,1fr)_minmax(0,1.12fr)]">
         <AnovaTable caption="One-way ANOVA (arm only)" rows={result.unadjusted.rows} testId="anova-table" />
         <AnovaTable
           caption="ANCOVA (Type III sums of squares)"
