@@ -22,7 +22,6 @@ import { StudyLayout } from './routes/study/study-layout.js';
 import { StudyOverviewRoute } from './routes/study/study-overview.js';
 import { StudyParticipantRoute } from './routes/study/study-participant.js';
 import { StudyParticipantsRoute } from './routes/study/study-participants.js';
-import { StudySectionPlaceholder } from './routes/study/study-section-placeholder.js';
 
 /*
  * Study sections are child routes of /studies/:studyId. To add a page, replace its

@@ -9,6 +9,7 @@ import { CheckboxField, TextareaField } from '../../../components/ui/field.js';
 import { FormAlert } from '../../../components/ui/form-alert.js';
 import { applyServerFieldErrors, errorMessage } from '../../../lib/form-errors.js';
 import { useUnblindParticipant, type UnblindResult } from '../api/unblind-participant.js';
+import { utcStamp } from './participant-labels.js';
 
 type UnblindProps = { studyId: string; participantId: string; participantCode: string };
 
@@ -55,7 +56,7 @@ export function EmergencyUnblind({ studyId, participantId, participantCode }: Un
           <Callout tone="caution" role="status" title={`Unblinded: ${result.arm.name}`}>
             <p>
               Arm <span className="figure">{result.arm.code}</span>, recorded at{' '}
-              <span className="figure">{result.unblindedAt}</span>.{' '}
+              <span className="figure">{utcStamp(result.unblindedAt)}</span>.{' '}
               {result.notified > 0
                 ? `${result.notified} unblinded staff member${result.notified === 1 ? ' was' : 's were'} notified by e-mail.`
                 : 'No one could be notified by e-mail.'}
