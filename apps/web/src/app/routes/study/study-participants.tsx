@@ -46,7 +46,9 @@ export function StudyParticipantsRoute() {
               <ParticipantsTable
                 studyId={study.id}
                 sites={detail.sites}
-                showArms={detail.canSeeArms}
+                // Open-label site staff may see one participant's arm, never a list of them:
+                // arm counts by site would make the next allocation predictable (DOMAIN.md).
+                showArms={detail.unblinded}
                 siteScoped={detail.sites.length < study.siteCount}
               />
             </div>
