@@ -213,7 +213,7 @@ export function SpecEditor({ studyId, data }: Props) {
           <TextField
             label="Significance level (alpha, two-sided)"
             type="number"
-            step="0.005"
+            step="any"
             min="0.001"
             max="0.2"
             value={String(spec.alpha)}
