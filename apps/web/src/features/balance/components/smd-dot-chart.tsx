@@ -124,12 +124,19 @@ export function SmdDotChart({
           <text x={x(threshold) + 4} y={-10} fontSize={11} fill={chartColors.graphite}>
             +{threshold} (convention)
           </text>
+          <text x={innerWidth + 12} y={-10} fontSize={11} fill={chartColors.graphite}>
+            {weighted ? 'weighted' : 'SMD'}
+          </text>
           <text x={x(-threshold) - 4} y={-10} fontSize={11} fill={chartColors.graphite} textAnchor="end">
             −{threshold}
           </text>
           {rows.map((row) => {
             const cy = (y(row.id) ?? 0) + ROW / 2;
             const active = focused === row.id;
+            // Cohorts are judged after weighting; trials by the chance band.
+            const emphasised = weighted
+              ? row.after !== null && Math.abs(row.after) >= threshold
+              : row.flags.beyondChance;
             return (
               <g
                 key={row.id}
@@ -162,7 +169,7 @@ export function SmdDotChart({
                   textAnchor="end"
                   fontSize={12.5}
                   fill={chartColors.ink}
-                  fontWeight={row.flags.beyondChance ? 700 : 400}
+                  fontWeight={emphasised ? 700 : 400}
                 >
                   {row.label.length > 26 ? `${row.label.slice(0, 25)}…` : row.label}
                 </text>
@@ -210,8 +217,8 @@ export function SmdDotChart({
                   dy="0.35em"
                   fontSize={11.5}
                   fontFamily="IBM Plex Mono, ui-monospace, monospace"
-                  fill={row.flags.beyondChance ? chartColors.flagged : chartColors.ink}
-                  fontWeight={row.flags.beyondChance ? 700 : 400}
+                  fill={emphasised ? chartColors.flagged : chartColors.ink}
+                  fontWeight={emphasised ? 700 : 400}
                   aria-hidden="true"
                 >
                   {formatSmd(weighted && row.after !== null ? row.after : row.smd, 2)}
