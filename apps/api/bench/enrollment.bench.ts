@@ -108,7 +108,7 @@ async function createBenchStudy(owner: pg.Client, code: string, ncov: number, ta
 async function startServer(): Promise<ChildProcess> {
   const prof = process.env.BENCH_CPU_PROF ? ['--cpu-prof', `--cpu-prof-dir=${process.env.BENCH_CPU_PROF}`] : [];
   const child = spawn(process.execPath, [...prof, '--import', 'tsx', path.join(here, '../src/server.ts')], {
-    env: { ...process.env, DB_NAME: DB, PORT: String(PORT), LOG_LEVEL: 'warn', NODE_ENV: 'production', JWT_SECRET: 'bench-secret-bench-secret-bench-secret-0123', DB_POOL_SIZE: '20' },
+    env: { ...process.env, NODE_OPTIONS: process.env.BENCH_NODE_OPTIONS ?? '', DB_NAME: DB, PORT: String(PORT), LOG_LEVEL: 'warn', NODE_ENV: 'production', JWT_SECRET: 'bench-secret-bench-secret-bench-secret-0123', DB_POOL_SIZE: '20' },
     stdio: ['ignore', 'ignore', 'inherit'],
   });
   for (let i = 0; i < 100; i++) {
@@ -176,6 +176,14 @@ async function main() {
   const headers = { cookie: auth.cookie, 'x-csrf-token': auth.csrf, 'content-type': 'application/json' };
   // Warm-up: JIT, pools, caches.
   await autocannon({ url, method: 'POST', connections: 10, amount: 300, headers, requests: [{ setupRequest: (r: object) => ({ ...r, body: bodyFor() }) }] });
+  const serial: number[] = [];
+  for (let i = 0; i < 100; i++) {
+    const t = performance.now();
+    const r = await fetch(url, { method: 'POST', headers, body: bodyFor() });
+    await r.arrayBuffer();
+    serial.push(performance.now() - t);
+  }
+  console.log('one client, 100 sequential enrollments: p50', pct(serial, 50).toFixed(1), 'ms, p95', pct(serial, 95).toFixed(1), 'ms');
   const latencies: number[] = [];
   const result = await autocannon({
     url,

@@ -109,42 +109,87 @@ export type EnrolledParticipant = {
 
 type AuditMode = 'per_participant' | 'batch';
 
-/** Inserts new participant rows with random codes (never derived from personal data), retrying the rare clash. */
-async function insertParticipants(tx: EntityManager, design: StudyDesign, items: ValidEnrollment[], stamps: string[]): Promise<string[]> {
-  const ids = new Array<string>(items.length);
-  const codes = new Array<string>(items.length);
+type ValueColumns = { ord: number[]; cov: string[]; num: (number | null)[]; txt: (string | null)[]; on: string[] };
+
+/** Baseline values as column arrays; `ord` is the item's index in its chunk (1-based, as WITH ORDINALITY counts). */
+function valueColumns(design: StudyDesign, items: ValidEnrollment[]): ValueColumns {
+  const byKey = new Map(design.covariates.map((c) => [c.key, c]));
+  const out: ValueColumns = { ord: [], cov: [], num: [], txt: [], on: [] };
+  items.forEach((item, i) => {
+    for (const [key, entry] of Object.entries(item.baseline)) {
+      const def = byKey.get(key)!;
+      out.ord.push(i + 1);
+      out.cov.push(def.id);
+      if (def.kind === 'categorical') {
+        out.num.push(null);
+        out.txt.push(String(entry.value));
+      } else {
+        out.num.push(def.kind === 'binary' ? (entry.value ? 1 : 0) : Number(entry.value));
+        out.txt.push(null);
+      }
+      out.on.push(entry.measuredOn);
+    }
+  });
+  return out;
+}
+
+/**
+ * Inserts new participants with random codes (never derived from personal data) and their
+ * baseline values in one statement per chunk; a participant whose code clashed is retried
+ * with a new code, values included.
+ */
+async function insertParticipants(tx: EntityManager, design: StudyDesign, items: ValidEnrollment[], stamps: string[]): Promise<{ id: string; code: string }[]> {
+  const out = new Array<{ id: string; code: string }>(items.length);
   let pending = items.map((_, i) => i);
   for (let attempt = 0; pending.length && attempt < 5; attempt++) {
-    for (const i of pending) codes[i] = `${design.code}-${items[i]!.siteCode}-${randomCode(6)}`;
-    for (let c = 0; c < pending.length; c += 5000) {
-      const chunk = pending.slice(c, c + 5000);
+    for (let c = 0; c < pending.length; c += CHUNK) {
+      const chunk = pending.slice(c, c + CHUNK);
+      const codes = chunk.map((i) => `${design.code}-${items[i]!.siteCode}-${randomCode(6)}`);
+      const v = valueColumns(design, chunk.map((i) => items[i]!));
       const rows: { id: string; code: string }[] = await tx.query(
-        `INSERT INTO participant (study_id, site_id, code, status, screened_at, enrolled_at, consent_date, consent_version, exposure_arm_id, import_key)
-         SELECT $1, s, c, 'enrolled', e, e, cd, cv, x, k
-           FROM unnest($2::uuid[], $3::text[], $4::timestamptz[], $5::date[], $6::text[], $7::uuid[], $8::text[]) AS t(s, c, e, cd, cv, x, k)
-         ON CONFLICT (study_id, code) DO NOTHING RETURNING id, code`,
+        `WITH input AS (
+           SELECT * FROM unnest($2::uuid[], $3::text[], $4::timestamptz[], $5::date[], $6::text[], $7::uuid[], $8::text[])
+             WITH ORDINALITY AS t(s, c, e, cd, cv, x, k, ord)
+         ), p AS (
+           INSERT INTO participant (study_id, site_id, code, status, screened_at, enrolled_at, consent_date, consent_version, exposure_arm_id, import_key)
+           SELECT $1, s, c, 'enrolled', e, e, cd, cv, x, k FROM input
+           ON CONFLICT (study_id, code) DO NOTHING RETURNING id, code
+         ), b AS (
+           INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on)
+           SELECT p.id, v.cov, v.num, v.txt, v.d
+             FROM unnest($9::int[], $10::uuid[], $11::float8[], $12::text[], $13::date[]) AS v(ord, cov, num, txt, d)
+             JOIN input ON input.ord = v.ord JOIN p ON p.code = input.c
+         )
+         SELECT id, code FROM p`,
         [
           design.id,
           chunk.map((i) => items[i]!.siteId),
-          chunk.map((i) => codes[i]),
+          codes,
           chunk.map((i) => stamps[i]),
           chunk.map((i) => items[i]!.consent.date),
           chunk.map((i) => items[i]!.consent.version),
           chunk.map((i) => items[i]!.exposureArmId ?? null),
           chunk.map((i) => items[i]!.importKey ?? null),
+          v.ord,
+          v.cov,
+          v.num,
+          v.txt,
+          v.on,
         ],
       );
       const byCode = new Map(rows.map((r) => [r.code, r.id]));
-      for (const i of chunk) {
-        const id = byCode.get(codes[i]!);
-        if (id) ids[i] = id;
-      }
+      chunk.forEach((i, j) => {
+        const id = byCode.get(codes[j]!);
+        if (id) out[i] = { id, code: codes[j]! };
+      });
     }
-    pending = pending.filter((i) => !ids[i]);
+    pending = pending.filter((i) => !out[i]);
   }
   if (pending.length) throw new AppError('internal', 'Could not generate unique participant codes');
-  return ids.map((id, i) => `${id}|${codes[i]}`);
+  return out;
 }
+
+const CHUNK = 5000;
 
 // Live enrollments are stamped now; imported ones with their enrollment date at noon UTC.
 function enrolledAt(item: ValidEnrollment): string {
@@ -152,34 +197,13 @@ function enrolledAt(item: ValidEnrollment): string {
 }
 
 async function insertBaseline(tx: EntityManager, design: StudyDesign, participantIds: string[], items: ValidEnrollment[]) {
-  const byKey = new Map(design.covariates.map((c) => [c.key, c]));
-  const p: string[] = [];
-  const c: string[] = [];
-  const num: (number | null)[] = [];
-  const txt: (string | null)[] = [];
-  const on: string[] = [];
-  items.forEach((item, i) => {
-    for (const [key, entry] of Object.entries(item.baseline)) {
-      const def = byKey.get(key)!;
-      p.push(participantIds[i]!);
-      c.push(def.id);
-      if (def.kind === 'categorical') {
-        num.push(null);
-        txt.push(String(entry.value));
-      } else {
-        num.push(def.kind === 'binary' ? (entry.value ? 1 : 0) : Number(entry.value));
-        txt.push(null);
-      }
-      on.push(entry.measuredOn);
-    }
-  });
-  for (let s = 0; s < p.length; s += 50_000) {
-    await tx.query(
-      `INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on)
-       SELECT * FROM unnest($1::uuid[], $2::uuid[], $3::float8[], $4::text[], $5::date[])`,
-      [p.slice(s, s + 50_000), c.slice(s, s + 50_000), num.slice(s, s + 50_000), txt.slice(s, s + 50_000), on.slice(s, s + 50_000)],
-    );
-  }
+  if (!items.length) return;
+  const v = valueColumns(design, items);
+  await tx.query(
+    `INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on)
+     SELECT ($1::uuid[])[ord], cov, num, txt, d FROM unnest($2::int[], $3::uuid[], $4::float8[], $5::text[], $6::date[]) AS v(ord, cov, num, txt, d)`,
+    [participantIds, v.ord, v.cov, v.num, v.txt, v.on],
+  );
 }
 
 /** Factor levels of a participant for allocation (stratification and minimization factors). */
@@ -212,10 +236,10 @@ export async function enrollValidated(
   if (fresh.length) {
     const made = await insertParticipants(tx, design, fresh.map((x) => x.it), fresh.map((x) => stamps[x.i]!));
     made.forEach((v, j) => {
-      const [id, code] = v.split('|') as [string, string];
-      idCode[fresh[j]!.i] = { id, code };
+      idCode[fresh[j]!.i] = v;
     });
   }
+  const existing: number[] = [];
   for (const [i, it] of items.entries()) {
     if (!it.existingParticipantId) continue;
     // TypeORM returns [rows, count] for UPDATE ... RETURNING.
@@ -227,9 +251,10 @@ export async function enrollValidated(
     );
     if (!rows[0]) throw new AppError('conflict', 'This screened participant is already enrolled or not eligible');
     idCode[i] = rows[0];
+    existing.push(i);
   }
   const ids = idCode.map((x) => x.id);
-  await insertBaseline(tx, design, ids, items);
+  await insertBaseline(tx, design, existing.map((i) => ids[i]!), existing.map((i) => items[i]!));
 
   let allocations: AllocationResult[] = [];
   if (design.kind === 'randomized_trial') {
