@@ -136,3 +136,30 @@ describe('strata planner (Hallstrom & Davis 1988: imbalance at most K*B/2)', () 
     expect(p.warnings.map((w) => w.code)).toEqual(['imbalance_bound', 'sparse_strata', 'many_factors']);
   });
 });
+
+describe('GET /openapi.json', () => {
+  it('lists every design, enrollment, import and upload operation', async () => {
+    const res = await c.statistician.get('/api/openapi.json');
+    expect(res.status).toBe(200);
+    const ops = Object.entries(res.body.paths as Record<string, Record<string, unknown>>).flatMap(([p, m]) => Object.keys(m).map((k) => `${k.toUpperCase()} ${p}`));
+    for (const op of [
+      'POST /api/studies',
+      'GET /api/studies/{studyId}',
+      'PUT /api/studies/{studyId}/design',
+      'POST /api/studies/{studyId}/screenings',
+      'GET /api/studies/{studyId}/screenings',
+      'POST /api/studies/{studyId}/participants',
+      'GET /api/studies/{studyId}/participants',
+      'GET /api/studies/{studyId}/participants/{participantId}',
+      'PATCH /api/studies/{studyId}/participants/{participantId}',
+      'POST /api/studies/{studyId}/participants/{participantId}/unblind',
+      'GET /api/studies/{studyId}/allocation-list',
+      'POST /api/studies/{studyId}/participants/import',
+      'GET /api/studies/{studyId}/participants/export.csv',
+      'POST /api/studies/{studyId}/participants/{participantId}/consent',
+      'GET /api/studies/{studyId}/participants/{participantId}/consent/{documentId}',
+    ]) {
+      expect(ops).toContain(op);
+    }
+  });
+});
