@@ -126,11 +126,46 @@ for k, nT, nC, thr in [(8, 313, 820, 0.5), (3, 712, 1153, 0.5), (40, 1656, 158, 
     chance.append({"covariateCount": k, "nTreated": nT, "nControl": nC, "threshold": thr,
                    "probabilityPerCovariate": float(p), "probabilityAtLeastOne": float(-np.expm1(k * np.log1p(-p)))})
 
+# ANCOVA with the outcome at a 1e6 offset and a small group effect: references on y - 1e6
+# (only the intercept depends on the shift). Drawn last so the sections above are unchanged.
+ancova_offset = []
+for i in range(3):
+    k, q = int(rng.integers(2, 5)), int(rng.integers(1, 4))
+    labels = np.repeat(np.arange(k), rng.integers(5, 25, k))
+    rng.shuffle(labels)
+    n = len(labels)
+    covs = {f"x{j}": rng.normal(rng.uniform(-10, 60), rng.uniform(1, 8), n) for j in range(q)}
+    ys = rng.normal(0, 3, n) + labels * 0.05 + sum(0.3 * c for c in covs.values())
+    y = 1e6 + ys
+    ys = y - 1e6  # exact
+    order = list(dict.fromkeys(labels.tolist()))
+    idx = np.array([order.index(g) for g in labels])
+    C = np.column_stack([c - c.mean() for c in covs.values()])
+    D = [(idx == g).astype(float) for g in range(1, k)]
+    X = np.column_stack([np.ones(n)] + D + [C])
+
+    def sse_of(A):
+        bb, *_ = np.linalg.lstsq(A, ys, rcond=None)
+        rr = ys - A @ bb
+        return float(rr @ rr), bb
+
+    sse, b = sse_of(X)
+    dfe = n - k - q
+    mse = sse / dfe
+    sse_no_group, _ = sse_of(np.column_stack([np.ones(n), C]))
+    cov_ss = {name: sse_of(np.delete(X, k + j, axis=1))[0] - sse for j, name in enumerate(covs)}
+    means = [float(1e6 + b[0] + (b[g] if g else 0.0)) for g in range(k)]
+    ancova_offset.append({
+        "outcome": fl(y), "group": [int(g) + 1 for g in labels], "covariates": {kk: fl(v) for kk, v in covs.items()},
+        "errorSS": sse, "groupSS": sse_no_group - sse, "groupF": (sse_no_group - sse) / (k - 1) / mse,
+        "covariateSS": cov_ss, "slopes": fl(b[k:]), "adjustedMeans": means,
+    })
+
 payload = {
     "generator": "packages/stats/scripts/generate-offset-fixtures.py",
     "reference": f"numpy {np.__version__}, scipy {scipy.__version__}",
     "seed": SEED,
-    "description": "data at a 1e9 offset (references on the exactly shifted values), far normal tails, t-based confidence limits",
+    "description": "data at a 1e9 offset (references on the exactly shifted values), far normal tails, t-based confidence limits, ANCOVA with the outcome at a 1e6 offset",
     "tolerance": {"relative": 1e-11, "absoluteFloor": 1e-12},
     "smd": smd,
     "summaries": summaries,
@@ -138,6 +173,7 @@ payload = {
     "groups": groups_cases,
     "ancova": ancova_cases,
     "chance": chance,
+    "ancovaOffset": ancova_offset,
 }
 with open(OUT, "w") as f:
     json.dump(payload, f, indent=1)

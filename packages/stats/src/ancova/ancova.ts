@@ -8,14 +8,15 @@ import {
   type LeastSquaresFit,
 } from '../leastSquares/leastSquares.js';
 import { oneWayAnova, type OneWayAnovaResult } from '../oneWayAnova/oneWayAnova.js';
-import { buildDesign, prepareDesign, type AncovaInput, type GroupLabel, type PreparedDesign } from './ancovaDesign.js';
+import { buildDesign, prepareDesign, weightedMean, type AncovaInput, type GroupLabel, type PreparedDesign } from './ancovaDesign.js';
 
 /**
  * Analysis of covariance with one grouping factor and any number of covariates, common
  * (parallel) slopes: y_i = mu + tau_g(i) + sum_c beta_c (x_ci - xbar_c) + e_i.
  *
  * Fitted by least squares through Householder QR (`leastSquares`), weighted when `weights`
- * is given (each row scaled by sqrt(w)). Then, with MSE = SSE / (N - k - q):
+ * is given (each row scaled by sqrt(w)), on y - ybar (the intercept and fitted values are
+ * shifted back; nothing else depends on the shift). Then, with MSE = SSE / (N - k - q):
  * - Terms table, **Type III** SS (each term adjusted for every other term): the extra SS from
  *   adding the term last, computed from R and Q'y by re-triangularising R (no refits). With one
  *   factor, no interaction and covariates, Type II and Type III coincide. For the group this is
@@ -95,12 +96,21 @@ export type AncovaResult = {
 const FN = 'ancova';
 
 /** Fits the common-slope model, translating a collinear column into a message about the covariate. */
-export function fitDesign(fn: string, d: PreparedDesign, extra: Float64Array[] = [], extraNames: string[] = []): { fit: LeastSquaresFit; x: Float64Array; p: number; names: string[] } {
+export function fitDesign(
+  fn: string,
+  d: PreparedDesign,
+  extra: Float64Array[] = [],
+  extraNames: string[] = [],
+): { fit: LeastSquaresFit; x: Float64Array; p: number; names: string[]; outcomeShift: number } {
   const { x, p, names } = buildDesign(d, extra);
   const allNames = [...names, ...extraNames];
+  // Fit y - ybar (weighted mean): only the intercept and the fitted values move, by ybar, and an
+  // outcome with a large offset (1e6 + noise) no longer costs digits of small SS in Q'y.
+  const outcomeShift = weightedMean(d.outcome, d.weights);
+  const y = Float64Array.from(d.outcome, (v) => v - outcomeShift);
   try {
-    const fit = leastSquares({ x, n: d.n, p, y: d.outcome, weights: d.weights, columnNames: allNames });
-    return { fit, x, p, names: allNames };
+    const fit = leastSquares({ x, n: d.n, p, y, weights: d.weights, columnNames: allNames });
+    return { fit, x, p, names: allNames, outcomeShift };
   } catch (error) {
     if (error instanceof CollinearColumnError) {
       const k = d.levels.length;
@@ -210,7 +220,7 @@ export function ancova(input: AncovaInput): AncovaResult {
   if (d.nPositive <= k + q + 0) {
     throw new RangeError(`${FN}: ${d.nPositive} observations are too few for ${k + q} parameters (need more than ${k + q})`);
   }
-  const { fit, x, p } = fitDesign(FN, d);
+  const { fit, x, p, outcomeShift } = fitDesign(FN, d);
   const dfE = fit.residualDf;
   const sse = fit.residualSS;
 
@@ -260,7 +270,9 @@ export function ancova(input: AncovaInput): AncovaResult {
   const modelF = modelSS / modelDf / mse;
 
   const tcrit = tQuantile(0.975, dfE);
-  const b = fit.coefficients;
+  // Coefficients on the original outcome scale: the intercept carries the shift back.
+  const b = Float64Array.from(fit.coefficients);
+  b[0] = (b[0] as number) + outcomeShift;
   const V = fit.unscaledCovariance;
   const meanContrast = (g: number): Array<[number, number]> => (g === 0 ? [[0, 1]] : [[0, 1], [g, 1]]);
   const diffContrast = (a: number, c: number): Array<[number, number]> => {
@@ -374,7 +386,7 @@ export function ancova(input: AncovaInput): AncovaResult {
     pairwise,
     slopes,
     residuals: Array.from(fit.residuals),
-    fitted: Array.from(fit.fitted),
+    fitted: Array.from(fit.fitted, (v) => v + outcomeShift),
     unadjusted,
     errorMeanSquareComparison: { unadjusted: unadjusted.within.ms, adjusted: mse, ratio: mse / unadjusted.within.ms },
     partition,
