@@ -198,6 +198,19 @@ describe('POST /studies/:studyId/analysis/runs', () => {
     expect(c5.message).toMatch(/Site, Sex/);
   });
 
+  it('when the model has many parameters for the participants, then caution 6 warns and says it is common practice', async () => {
+    const spec = baseSpec({ covariates: [{ key: 'age', form: 'linear' }, { key: 'fev1', form: 'linear' }] });
+    const c = await prepared({ n: 40 }, spec);
+    await lock(c, 1);
+    const run = await c.statistician.post(url(c, '/analysis/runs')).send({});
+    const result = run.body.run.result;
+    // Two arms, baseline walk, age, FEV1, sex (male) and site (S2): 7 parameters for 40 participants.
+    expect(result.model.parameters).toBe(7);
+    const c6 = result.cautions.find((x: { number: number }) => x.number === 6);
+    expect(c6.message).toMatch(/7 parameters for 40 participants/);
+    expect(c6.source).toBe('common practice');
+  });
+
   it('when the arms have different slopes, then caution 7 says the common-slope ANCOVA is not representative', async () => {
     const c = await prepared({ n: 120, slopes: [1.4, 0.2], seed: 11 });
     await lock(c, 1);
