@@ -1,5 +1,5 @@
 import { assertArrayLike, checkedWeights } from '../inputChecks/inputChecks.js';
-import type { ArmWeights } from '../varianceRatio/varianceRatio.js';
+import { readArmWeights, type ArmWeights } from '../varianceRatio/varianceRatio.js';
 
 export type Level = string | number;
 
@@ -28,8 +28,8 @@ const FN = 'categoricalSmd';
  * which level is left out (dropping another level is an invertible linear map of p, and a
  * Mahalanobis distance is invariant under such maps); it is always >= 0.
  *
- * Weights: `{ treated?, control? }`, each the same length as that arm's levels (the same
- * shape as `varianceRatio`); proportions become sum(w [level = k]) / sum(w), as for the
+ * Weights: `{ treated?, control? }` or a pair `[treated, control]`, each the same length as
+ * that arm's levels (the same shape as `varianceRatio`); proportions become sum(w [level = k]) / sum(w), as for the
  * weighted binary SMD of Austin & Stuart (Stat Med 2015;34:3661).
  *
  * Levels are strings or finite numbers compared with ===; missing values must be removed (or
@@ -45,13 +45,11 @@ const FN = 'categoricalSmd';
 export function categoricalSmd(
   levelsTreated: ArrayLike<Level>,
   levelsControl: ArrayLike<Level>,
-  weights?: ArmWeights,
+  weights?: ArmWeights | [ArrayLike<number> | undefined, ArrayLike<number> | undefined],
 ): CategoricalSmdResult {
-  if (weights !== undefined && (weights === null || typeof weights !== 'object')) {
-    throw new TypeError(`${FN}: weights must be an object like { treated, control }, got ${String(weights)}`);
-  }
-  const tTotals = levelTotals('levelsTreated', levelsTreated, weights?.treated, 'weights.treated');
-  const cTotals = levelTotals('levelsControl', levelsControl, weights?.control, 'weights.control');
+  const w = readArmWeights(FN, weights);
+  const tTotals = levelTotals('levelsTreated', levelsTreated, w?.treated, 'weights.treated');
+  const cTotals = levelTotals('levelsControl', levelsControl, w?.control, 'weights.control');
   const levels = sortLevels([...new Set([...tTotals.byLevel.keys(), ...cTotals.byLevel.keys()])]);
   if (levels.length < 2) {
     throw new RangeError(

@@ -10,6 +10,30 @@ export type ArmWeights = {
 const FN = 'varianceRatio';
 
 /**
+ * Reads the optional per-arm weights argument shared by `varianceRatio` and `categoricalSmd`:
+ * `{ treated?, control? }`, or a pair `[treatedWeights, controlWeights]`. Anything else (another
+ * array, unknown keys) throws instead of being ignored, which would silently give the
+ * unweighted result.
+ */
+export function readArmWeights(fn: string, weights: unknown): ArmWeights | undefined {
+  if (weights === undefined) return undefined;
+  if (weights === null || typeof weights !== 'object') {
+    throw new TypeError(`${fn}: weights must be an object like { treated, control }, got ${String(weights)}`);
+  }
+  if (Array.isArray(weights)) {
+    const pairOfArrays = weights.length === 2 && weights.every((w) => w === undefined || (w !== null && typeof w === 'object'));
+    if (!pairOfArrays) {
+      throw new TypeError(`${fn}: weights must be { treated, control } or a pair [treatedWeights, controlWeights]`);
+    }
+    return { treated: weights[0] as ArrayLike<number> | undefined, control: weights[1] as ArrayLike<number> | undefined };
+  }
+  for (const key of Object.keys(weights)) {
+    if (key !== 'treated' && key !== 'control') throw new RangeError(`${fn}: unknown weights key '${key}' (use treated, control)`);
+  }
+  return weights as ArmWeights;
+}
+
+/**
  * Variance ratio of a continuous covariate: VR = s2_T / s2_C.
  *
  * s2 is the sample variance with n - 1, or with weights the Austin & Stuart (Stat Med
@@ -27,12 +51,14 @@ const FN = 'varianceRatio';
  * @example
  * varianceRatio([1, 2, 3, 4], [2, 3]); // (5/3) / 0.5 = 3.333...
  */
-export function varianceRatio(treated: ArrayLike<number>, control: ArrayLike<number>, weights?: ArmWeights): number {
-  if (weights !== undefined && (weights === null || typeof weights !== 'object')) {
-    throw new TypeError(`${FN}: weights must be an object like { treated, control }, got ${String(weights)}`);
-  }
-  const t = armMoments(FN, 'treated', treated, weights?.treated, 'weights.treated', 2);
-  const c = armMoments(FN, 'control', control, weights?.control, 'weights.control', 2);
+export function varianceRatio(
+  treated: ArrayLike<number>,
+  control: ArrayLike<number>,
+  weights?: ArmWeights | [ArrayLike<number> | undefined, ArrayLike<number> | undefined],
+): number {
+  const w = readArmWeights(FN, weights);
+  const t = armMoments(FN, 'treated', treated, w?.treated, 'weights.treated', 2);
+  const c = armMoments(FN, 'control', control, w?.control, 'weights.control', 2);
   const vT = armVariance(FN, 'treated', t);
   const vC = armVariance(FN, 'control', c);
   if (vT === 0 || vC === 0) {

@@ -123,3 +123,15 @@ describe('categoricalSmd: bad input', () => {
 function allSame(xs: number[]): boolean {
   return xs.every((x) => x === xs[0]);
 }
+
+describe('categoricalSmd: the weights argument', () => {
+  it('takes a pair [treated, control] the same as { treated, control }, and rejects a single array', () => {
+    const t = ['a', 'b', 'c', 'a'];
+    const c = ['b', 'b', 'c', 'a'];
+    const wT = [1, 2, 1, 0.5];
+    const asObject = categoricalSmd(t, c, { treated: wT });
+    expect(asObject).not.toBe(categoricalSmd(t, c)); // the weights matter here
+    expect(categoricalSmd(t, c, [wT, undefined])).toBe(asObject);
+    expect(() => categoricalSmd(t, c, wT as never)).toThrow(TypeError);
+  });
+});

@@ -60,3 +60,20 @@ describe('varianceRatio: bad input', () => {
     expect(call).toThrow(message);
   });
 });
+
+describe('varianceRatio: the weights argument', () => {
+  // Hand computation with the Austin & Stuart (2015) variance: treated 1, 2, 3, 4 with weights
+  // 1, 1, 2, 2 (W = 6, W2 = 10, mean 17/6, sum w (x - mean)^2 = 41/6) gives 6/26 * 41/6 = 41/26;
+  // control 2, 3 unweighted gives 0.5, so VR = 41/13.
+  it('takes a pair [treated, control] the same as { treated, control }', () => {
+    const asObject = varianceRatio([1, 2, 3, 4], [2, 3], { treated: [1, 1, 2, 2] });
+    expect(asObject).toBeCloseTo(41 / 13, 12);
+    expect(varianceRatio([1, 2, 3, 4], [2, 3], [[1, 1, 2, 2], undefined])).toBe(asObject);
+  });
+  it.each([
+    ['a single weights array (it used to be ignored silently)', [1, 1, 2, 2]],
+    ['an unknown key', { treatment: [1, 1, 2, 2] }],
+  ])('rejects %s', (_l, weights) => {
+    expect(() => varianceRatio([1, 2, 3, 4], [2, 3], weights as never)).toThrow(/weights/);
+  });
+});
