@@ -122,3 +122,22 @@ describe('analysis routes: role matrix', () => {
     expect(JSON.stringify(audit!.after)).not.toMatch(/HBW|UC|arm/i);
   });
 });
+
+describe('GET /api/openapi.json', () => {
+  it('lists every analysis operation', async () => {
+    const res = await supertest(t.app).get('/api/openapi.json');
+    const paths = res.body.paths as Record<string, Record<string, unknown>>;
+    const listed = Object.entries(paths).flatMap(([p, ops]) => Object.keys(ops).map((m) => `${m} ${p}`));
+    expect(listed).toEqual(
+      expect.arrayContaining([
+        'get /api/studies/{studyId}/analysis/spec',
+        'put /api/studies/{studyId}/analysis/spec',
+        'post /api/studies/{studyId}/analysis/spec/lock',
+        'put /api/studies/{studyId}/outcomes',
+        'post /api/studies/{studyId}/analysis/runs',
+        'get /api/studies/{studyId}/analysis/runs',
+        'get /api/studies/{studyId}/analysis/runs/{runId}',
+      ]),
+    );
+  });
+});
