@@ -56,9 +56,24 @@ async function noSnapshot(ctx: AppContext, studyId: string): Promise<never> {
   });
 }
 
-/** Sends the stored snapshot text with freshness spliced in, without parsing it (the hot path). */
-function sendWithFreshness(res: Response, fresh: object, storedJson: string): void {
-  res.type('application/json').send(`{"freshness":${JSON.stringify(fresh)},${storedJson.slice(1)}`);
+/** Encoded bodies of the hot path, by snapshot and freshness; a snapshot never changes once written. */
+const bodyCache = new Map<string, Buffer>();
+
+/**
+ * Sends the stored snapshot text with freshness spliced in, without parsing it (the hot path).
+ * The ETag names the snapshot and its freshness, so a poller that already has it gets a 304.
+ */
+function sendWithFreshness(res: Response, key: string, fresh: { recomputePending: boolean }, storedJson: string, snapshotId: string): void {
+  const tag = `${snapshotId}-${fresh.recomputePending ? 'p' : 'c'}`;
+  const cacheKey = `${key}|${tag}`;
+  let buf = bodyCache.get(cacheKey);
+  if (!buf) {
+    buf = Buffer.from(`{"freshness":${JSON.stringify(fresh)},${storedJson.slice(1)}`);
+    if (bodyCache.size >= 100) bodyCache.delete(bodyCache.keys().next().value as string);
+    bodyCache.set(cacheKey, buf);
+  }
+  res.setHeader('ETag', `"${tag}"`);
+  res.type('application/json').send(buf);
 }
 
 const freshnessOf = (head: SnapshotHead) => ({
@@ -90,14 +105,14 @@ export function balanceRoutes(ctx: AppContext): Router {
     if (arms) {
       const text = await armsText(ctx.ds, studyId, q.site ?? null, head);
       if (!text) return noSnapshot(ctx, studyId);
-      sendWithFreshness(res, freshnessOf(head), text);
+      sendWithFreshness(res, `${studyId}|arms|${q.site ?? ''}`, freshnessOf(head), text, head.id);
       return;
     }
     // Pooled and blinded: from the pooled column only, which carries no arm.
     const text = await pooledText(ctx.ds, studyId, head);
     if (!text) return noSnapshot(ctx, studyId);
     if (!q.site) {
-      sendWithFreshness(res, freshnessOf(head), text);
+      sendWithFreshness(res, `${studyId}|pooled`, freshnessOf(head), text, head.id);
       return;
     }
     const pooled = JSON.parse(text) as PooledBody;

@@ -62,6 +62,11 @@ describe('balance routes', () => {
     expect(view.snapshot.enrolledCount).toBe(80);
     expect(view.siteGrid).toHaveLength(2);
     expect(view.cautions.join(' ')).toMatch(/does not justify adding a covariate/);
+    // A poller that already has this snapshot gets a 304 and no body.
+    const etag = res.headers.etag as string;
+    expect(etag).toContain(view.snapshot.id);
+    const again = await statistician.get(`/api/studies/${study.id}/balance`).set('If-None-Match', etag);
+    expect(again.status).toBe(304);
     const site = await statistician.get(`/api/studies/${study.id}/balance?site=${study.siteIds[1]}`);
     const siteView = balanceArmsViewSchema.parse(site.body);
     expect(siteView.scope.siteId).toBe(study.siteIds[1]);
