@@ -46,7 +46,7 @@ const ESTIMANDS: readonly Estimand[] = ['ATE', 'ATT', 'overlap'];
  *
  * @throws {TypeError} scores or treated is not an array; options missing.
  * @throws {RangeError} empty or mismatched inputs; a score not strictly between 0 and 1; treated
- *   not 0/1 (or boolean); one arm empty; unknown estimand; stabilized with overlap.
+ *   not 0/1 (or boolean); one arm empty; unknown estimand or option key; stabilized with overlap.
  * @example
  * propensityWeights([0.2, 0.5, 0.8], [1, 0, 1], { estimand: 'ATE' }).weights; // [5, 2, 1.25]
  */
@@ -57,6 +57,9 @@ export function propensityWeights(
 ): PropensityWeights {
   if (options === null || typeof options !== 'object') {
     throw new TypeError(`${FN}: options must be an object like { estimand: 'ATE' }, got ${String(options)}`);
+  }
+  for (const key of Object.keys(options)) {
+    if (key !== 'estimand' && key !== 'stabilized') throw new RangeError(`${FN}: unknown option '${key}' (use estimand, stabilized)`);
   }
   const estimand = checkOption(FN, 'options.estimand', options.estimand, ESTIMANDS);
   const stabilized = options.stabilized ?? false;

@@ -41,7 +41,7 @@ const KINDS: readonly SmdKind[] = ['continuous', 'binary'];
  *   are accepted for kind 'binary'), or options are missing.
  * @throws {RangeError} an arm is empty (binary) or has fewer than two values (continuous); a value
  *   or weight is not finite; weights are negative, all zero, or of the wrong length; a binary value
- *   is not 0/1; `kind` is unknown; the pooled variance is zero (the SMD is undefined).
+ *   is not 0/1; `kind` or another option key is unknown; the pooled variance is zero (the SMD is undefined).
  * @example
  * standardizedMeanDifference([12, 10, 11, 13], [9, 10, 8, 9], { kind: 'continuous' }); // 2.3146 (2.5 / sqrt(7/6))
  * standardizedMeanDifference([1, 1, 0, 1], [0, 1, 0, 0], { kind: 'binary' }); // 1.1547 (0.5 / sqrt(0.1875))
@@ -53,6 +53,12 @@ export function standardizedMeanDifference(
 ): number {
   if (options === null || typeof options !== 'object') {
     throw new TypeError(`${FN}: options must be an object like { kind: 'continuous' }, got ${String(options)}`);
+  }
+  for (const key of Object.keys(options)) {
+    // A misspelt key (e.g. `weights`) would otherwise give the unweighted SMD without a word.
+    if (key !== 'kind' && key !== 'weightsTreated' && key !== 'weightsControl') {
+      throw new RangeError(`${FN}: unknown option '${key}' (use kind, weightsTreated, weightsControl)`);
+    }
   }
   const kind = checkOption(FN, 'options.kind', options.kind, KINDS);
   const minLength = kind === 'continuous' ? 2 : 1;

@@ -104,3 +104,11 @@ describe('propensityWeights: bad input', () => {
     expect(call).toThrow(message);
   });
 });
+
+describe('propensityWeights: unknown option keys', () => {
+  it('rejects a misspelt key instead of ignoring it', () => {
+    const call = () => propensityWeights([0.2, 0.5], [1, 0], { estimand: 'ATE', stabilised: true } as never);
+    expect(call).toThrow(RangeError);
+    expect(call).toThrow(/unknown option 'stabilised'/);
+  });
+});

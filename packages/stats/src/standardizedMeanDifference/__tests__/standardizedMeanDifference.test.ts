@@ -172,3 +172,11 @@ const offsetC = [1000000000.2888099, 999999999.319784, 1000000003.1020355, 10000
     expect(call).toThrow(message);
   });
 });
+
+describe('standardizedMeanDifference: unknown option keys', () => {
+  it('rejects a misspelt weights key instead of returning the unweighted SMD', () => {
+    const call = () => standardizedMeanDifference([1, 2, 3], [2, 3, 5], { kind: 'continuous', weights: [1, 1, 1] } as never);
+    expect(call).toThrow(RangeError);
+    expect(call).toThrow(/unknown option 'weights'/);
+  });
+});
