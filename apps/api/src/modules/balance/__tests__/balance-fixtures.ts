@@ -126,7 +126,7 @@ export async function enqueue(t: TestContext, studyId: string, reason: string): 
 const silent = pino({ level: 'silent' });
 
 /** Runs the registered handler directly, as the worker would, on one job. */
-export async function runJob(t: TestContext, payload: RecomputePayload, jobId = randomUUID()): Promise<void> {
+export async function runJob(t: TestContext, payload: RecomputePayload, jobId: string = randomUUID()): Promise<void> {
   const job = { id: jobId, name: 'balance.recompute', data: payload } as unknown as PgBoss.Job<object>;
   await balanceRecomputeHandler.handle(t.ctx, [job], silent);
 }
