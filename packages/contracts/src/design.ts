@@ -291,6 +291,12 @@ export const allocationSchemeDtoSchema = z.intersection(
   z.object({ seed: z.string().optional(), algorithm: z.string().optional(), algorithmVersion: z.string().optional() }),
 );
 
+/** What site staff and sponsors get: the method only (block sizes, factors and seed stay concealed, ICH E9 2.3.1). */
+export const concealedAllocationSchema = z.object({
+  method: z.enum(['permuted_blocks', 'minimization', 'exposure_recorded']),
+  concealed: z.literal(true),
+});
+
 export const studyDetailSchema = z.object({
   id: z.uuid(),
   code: z.string(),
@@ -308,7 +314,7 @@ export const studyDetailSchema = z.object({
   covariates: z.array(covariateDtoSchema),
   screeningQuestions: z.array(screeningQuestionSchema),
   eligibility: z.array(eligibilityCriterionSchema),
-  allocation: allocationSchemeDtoSchema.nullable(),
+  allocation: z.union([allocationSchemeDtoSchema, concealedAllocationSchema]).nullable(),
   alertRules: alertRulesSchema,
   strataPlan: strataPlanSchema.nullable(),
   myRole: z.string(),

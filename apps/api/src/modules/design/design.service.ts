@@ -250,7 +250,7 @@ export async function studyDetail(ctx: AppContext, studyId: string, access: Stud
     if (access.unblinded) allocation = d.allocation;
     else if (designer) allocation = schemeWithoutSeed(d.allocation) as StudyDetail['allocation'];
     // Sites must never learn block sizes or minimization settings (concealment).
-    else allocation = { method: d.allocation.method } as StudyDetail['allocation'];
+    else allocation = { method: d.allocation.method, concealed: true };
   }
   const sites = access.siteIds ? d.sites.filter((s) => access.siteIds!.includes(s.id)) : d.sites;
   return {

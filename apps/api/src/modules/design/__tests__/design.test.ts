@@ -44,7 +44,7 @@ describe('GET /studies/:studyId', () => {
       expect(res.status).toBe(200);
       expect(res.body.study.arms).toBeNull();
       expect(res.body.study.armCount).toBe(2);
-      expect(res.body.study.allocation).toEqual({ method: 'permuted_blocks' });
+      expect(res.body.study.allocation).toEqual({ method: 'permuted_blocks', concealed: true });
       expect(JSON.stringify(res.body)).not.toMatch(/Arm A|Arm B|"seed"|blockSizes/);
     }
     const admin = await c.admin.get(`/api/studies/${c.studyId}`);

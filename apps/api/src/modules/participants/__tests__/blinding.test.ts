@@ -65,7 +65,7 @@ describe('open-label studies', () => {
     const study = await o.coordinator.get(`/api/studies/${o.studyId}`);
     expect(study.body.study.canSeeArms).toBe(true);
     // The method only: no block sizes (which would make the next allocation predictable), no counts by arm.
-    expect(study.body.study.allocation).toEqual({ method: 'permuted_blocks' });
+    expect(study.body.study.allocation).toEqual({ method: 'permuted_blocks', concealed: true });
     expect(study.body.study.strataPlan).toBeNull();
     const list = await o.coordinator.get(`/api/studies/${o.studyId}/participants`);
     expect(Object.keys(list.body).sort()).toEqual(['items', 'page', 'pageSize', 'total']);
