@@ -18,7 +18,7 @@ import { evaluateAlerts, sendPendingNotifications, systemActor } from './balance
 import type { QuantileSet } from './balance-compute.js';
 import { loadStudyConfig, rows } from './balance-config.js';
 import { computeQuantiles } from './balance-quantiles.js';
-import { buildSnapshot } from './balance-snapshot.js';
+import { buildSnapshot, type SiteReuse } from './balance-snapshot.js';
 import { computeWeighting, loadWeightingRows } from './balance-weighting.js';
 
 export const BALANCE_QUEUE = 'balance.recompute';
@@ -138,7 +138,20 @@ async function runInTransaction(
       set = await loadAccumulators(tx, config.id);
       changed = await applyChanges(tx, config, set);
     }
+    const dirtySites = new Set([...set.dirty].map((id) => set.cells.get(id)?.key.siteId ?? id.split('|')[0]!));
     await saveAccumulators(tx, config.id, set, full);
+    let reuse: SiteReuse | null = null;
+    if (!full) {
+      const [prev] = await rows<{ grid: SiteReuse['grid'] | null; trend_sites: SiteReuse['trendSites'] | null; pooled_sites: SiteReuse['pooledSites'] | null }>(
+        tx,
+        `SELECT result -> 'siteGrid' AS grid, trend -> 'sites' AS trend_sites, pooled -> 'sites' AS pooled_sites
+           FROM balance_snapshot WHERE study_id = $1 AND design_version = $2 ORDER BY computed_at DESC LIMIT 1`,
+        [config.id, config.designVersion],
+      );
+      if (prev?.grid && prev.trend_sites && prev.pooled_sites) {
+        reuse = { dirtySites, grid: prev.grid, trendSites: prev.trend_sites, pooledSites: prev.pooled_sites };
+      }
+    }
 
     const now = new Date();
     const enrolledNow = [...set.cells.values()]
@@ -166,6 +179,7 @@ async function runInTransaction(
       quantiles,
       { id: snapshotId, computedAt: now.toISOString(), kind, reason: payload.reason, quantilesComputedAt: quantilesAt.toISOString() },
       weighting,
+      reuse,
     );
     await tx.query(
       `INSERT INTO balance_snapshot (id, study_id, computed_at, kind, reason, design_version, enrolled_count, result, pooled, trend)

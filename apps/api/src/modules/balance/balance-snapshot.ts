@@ -43,12 +43,25 @@ export function comparisonNoteFor(config: StudyConfig): string | null {
   return `With ${config.arms.length} arms, each arm is compared pairwise with the reference arm ${ref.code} (${ref.name}); SMDs are arm minus ${ref.code}.`;
 }
 
+/**
+ * What an incremental run may take over from the previous snapshot for the sites whose cells it
+ * did not change: their grid row, trend and pooled row. Those sites are then not rebuilt (and
+ * their alerts not re-evaluated: nothing about them changed).
+ */
+export type SiteReuse = {
+  dirtySites: Set<string>;
+  grid: NonNullable<SnapshotBody['siteGrid']>;
+  trendSites: Trend['sites'];
+  pooledSites: PooledBody['sites'];
+};
+
 export function buildSnapshot(
   config: StudyConfig,
   set: AccumulatorSet,
   quantiles: QuantileSet | null,
   meta: SnapshotMeta,
   weighting: Weighting | null,
+  reuse: SiteReuse | null = null,
 ): { body: SnapshotBody; sites: Map<string, SnapshotBody>; pooled: PooledBody; trend: Trend; enrolled: number } {
   const rules = rulesOf(config);
   const ref = config.arms[0]!;
@@ -121,7 +134,19 @@ export function buildSnapshot(
 
   const sites = new Map<string, SnapshotBody>();
   const siteGrid: NonNullable<SnapshotBody['siteGrid']> = [];
+  const reusedPooled = new Map<string, PooledBody['sites'][number]>();
   for (const site of config.sites) {
+    if (reuse && !reuse.dirtySites.has(site.id)) {
+      const row = reuse.grid.find((g) => g.siteId === site.id);
+      const trendRow = reuse.trendSites[site.id];
+      const pooledRow = reuse.pooledSites.find((p) => p.siteId === site.id);
+      if (row && trendRow && pooledRow) {
+        siteGrid.push(row);
+        trend.sites[site.id] = trendRow;
+        reusedPooled.set(site.id, pooledRow);
+        continue;
+      }
+    }
     const cells = scopes.bySite.get(site.id) ?? scopeCells(set, site.id);
     const counts = siteCounts(site.id, cells.participants);
     // Per-site medians are not kept (only mean and SD): quantiles are for the overall table.
@@ -210,6 +235,8 @@ export function buildSnapshot(
     targetSampleSize: config.targetSampleSize,
     enrolled,
     sites: config.sites.map((site) => {
+      const reused = reusedPooled.get(site.id);
+      if (reused) return reused;
       const row = siteGrid.find((g) => g.siteId === site.id)!;
       const detail = sites.get(site.id)!;
       return {

@@ -181,7 +181,15 @@ describe('balance.recompute job', () => {
       expect(snap.body.snapshot.enrolledCount).toBe(stored.length);
       checked += checkScope(study, snap.body, stored, true, `step ${step} overall`);
       for (const siteId of study.siteIds) {
-        checked += checkScope(study, snap.sites.get(siteId)!, stored.filter((x) => x.siteId === siteId), false, `step ${step} site`);
+        const siteView = snap.sites.get(siteId)!;
+        checked += checkScope(study, siteView, stored.filter((x) => x.siteId === siteId), false, `step ${step} site`);
+        // The stored grid (sites an incremental run did not touch are carried over) matches the site view.
+        const row = snap.body.siteGrid!.find((g) => g.siteId === siteId)!;
+        expect(row.nByArm).toEqual(siteView.site!.nByArm);
+        for (const cell of row.cells) {
+          const cov = siteView.covariates.find((c) => c.key === cell.key)!;
+          expect(cell.comparisons.map((c) => c.smd)).toEqual(cov.balance.comparisons.map((c) => c.smd));
+        }
       }
     }
     expect(kinds.filter((k) => k === 'incremental').length).toBeGreaterThan(5);
