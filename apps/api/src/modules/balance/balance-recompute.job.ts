@@ -8,6 +8,7 @@ import type { JobHandler } from '../../jobs/handlers.js';
 import { appendAudit } from '../audit/audit.service.js';
 import {
   AccumulatorsOutOfStep,
+  type AccumulatorSet,
   aggregateAll,
   applyChanges,
   loadAccumulators,
@@ -57,6 +58,20 @@ export type RecomputeHooks = {
   quantilesEveryRunUpTo?: number;
 };
 
+/**
+ * Per process: the accumulators and per-site rows of the latest snapshot this process wrote,
+ * so the next incremental run need not read them back. Used only while that snapshot is still
+ * the study's latest (another worker may have written a newer one).
+ */
+type Warm = {
+  snapshotId: string;
+  fingerprint: string;
+  designVersion: number;
+  set: AccumulatorSet;
+  reuse: Omit<SiteReuse, 'dirtySites'>;
+};
+const warm = new Map<string, Warm>();
+
 export type RecomputeResult = {
   snapshotId: string;
   kind: 'full' | 'incremental';
@@ -65,6 +80,8 @@ export type RecomputeResult = {
   alertsOpened: number;
   alertsCleared: number;
   mailsSent: number;
+  /** Milliseconds per stage, for the logs and the benchmark. */
+  timings: Record<string, number>;
 };
 
 /**
@@ -80,6 +97,7 @@ export async function recomputeBalance(
 ): Promise<RecomputeResult | null> {
   const payload = recomputePayloadSchema.parse(input);
   let outcome: Omit<RecomputeResult, 'mailsSent'> | null;
+  const started = performance.now();
   try {
     outcome = await runInTransaction(ctx, payload, false, opts);
   } catch (err) {
@@ -91,6 +109,7 @@ export async function recomputeBalance(
   const config = await loadStudyConfig(ctx.ds, payload.studyId);
   const mailsSent = config ? await sendPendingNotifications(ctx, ctx.ds, config, opts.log) : 0;
   if (!outcome) return null;
+  outcome.timings.total = Math.round((performance.now() - started) * 10) / 10;
   opts.log?.info({ ...outcome, mailsSent, studyId: payload.studyId }, 'balance recomputed');
   return { ...outcome, mailsSent };
 }
@@ -101,7 +120,15 @@ async function runInTransaction(
   forceFull: boolean,
   opts: { jobId?: string | null; hooks?: RecomputeHooks },
 ): Promise<Omit<RecomputeResult, 'mailsSent'> | null> {
-  return inTransaction(ctx.ds, async (tx) => {
+  const timings: Record<string, number> = {};
+  let mark = performance.now();
+  let candidate: Warm | null = null;
+  const lap = (stage: string) => {
+    const now = performance.now();
+    timings[stage] = Math.round((now - mark) * 10) / 10;
+    mark = now;
+  };
+  const result = await inTransaction(ctx.ds, async (tx) => {
     await tx.query(`SELECT pg_advisory_xact_lock($1, hashtext($2))`, [LOCK_CLASS, payload.studyId]);
     // Aggregates and quantile sorts over millions of values stay in memory.
     await tx.query(`SET LOCAL work_mem = '128MB'`);
@@ -130,18 +157,33 @@ async function runInTransaction(
       pending > INCREMENTAL_MAX_PARTICIPANTS ||
       state.changes_since_full + pending > Math.max(50, FULL_AFTER_CHANGED_SHARE * enrolledBefore);
 
-    let set;
+    let set: AccumulatorSet;
     let changed = 0;
+    // This process's copy of the state the latest snapshot was built from, if it is still the latest.
+    const kept = warm.get(config.id);
+    warm.delete(config.id);
+    let reusable: Omit<SiteReuse, 'dirtySites'> | null = null;
     if (full) {
       set = await aggregateAll(tx, config);
     } else {
-      set = await loadAccumulators(tx, config.id);
+      const [latestSnapshot] = await rows<{ id: string }>(
+        tx,
+        `SELECT id FROM balance_snapshot WHERE study_id = $1 ORDER BY computed_at DESC LIMIT 1`,
+        [config.id],
+      );
+      if (kept && latestSnapshot && kept.snapshotId === latestSnapshot.id && kept.fingerprint === config.fingerprint && kept.designVersion === config.designVersion) {
+        set = kept.set;
+        reusable = kept.reuse;
+      } else {
+        set = await loadAccumulators(tx, config.id);
+      }
       changed = await applyChanges(tx, config, set);
     }
+    lap('accumulators');
     const dirtySites = new Set([...set.dirty].map((id) => set.cells.get(id)?.key.siteId ?? id.split('|')[0]!));
     await saveAccumulators(tx, config.id, set, full);
     let reuse: SiteReuse | null = null;
-    if (!full) {
+    if (!full && !reusable) {
       const [prev] = await rows<{ grid: SiteReuse['grid'] | null; trend_sites: SiteReuse['trendSites'] | null; pooled_sites: SiteReuse['pooledSites'] | null }>(
         tx,
         `SELECT result -> 'siteGrid' AS grid, trend -> 'sites' AS trend_sites, pooled -> 'sites' AS pooled_sites
@@ -149,10 +191,12 @@ async function runInTransaction(
         [config.id, config.designVersion],
       );
       if (prev?.grid && prev.trend_sites && prev.pooled_sites) {
-        reuse = { dirtySites, grid: prev.grid, trendSites: prev.trend_sites, pooledSites: prev.pooled_sites };
+        reusable = { grid: prev.grid, trendSites: prev.trend_sites, pooledSites: prev.pooled_sites };
       }
     }
+    if (!full && reusable) reuse = { dirtySites, ...reusable };
 
+    lap('save');
     const now = new Date();
     const enrolledNow = [...set.cells.values()]
       .filter((c) => c.key.covariateKey === '')
@@ -169,10 +213,11 @@ async function runInTransaction(
         await ctx.jobs.send(tx, BALANCE_QUEUE, { studyId: config.id, reason: 'quantiles', quantiles: true }, { singletonKey: `quantiles:${config.id}` });
       }
     }
+    lap('quantiles');
     const weighting = config.kind === 'observational_cohort' ? computeWeighting(config, await loadWeightingRows(tx, config)) : null;
 
     const snapshotId = randomUUID();
-    const kind = full ? 'full' : 'incremental';
+    const kind: 'full' | 'incremental' = full ? 'full' : 'incremental';
     const built = buildSnapshot(
       config,
       set,
@@ -181,6 +226,14 @@ async function runInTransaction(
       weighting,
       reuse,
     );
+    lap('build');
+    candidate = {
+      snapshotId,
+      fingerprint: config.fingerprint,
+      designVersion: config.designVersion,
+      set,
+      reuse: { grid: built.body.siteGrid ?? [], trendSites: built.trend.sites, pooledSites: built.pooled.sites },
+    };
     await tx.query(
       `INSERT INTO balance_snapshot (id, study_id, computed_at, kind, reason, design_version, enrolled_count, result, pooled, trend)
        VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)`,
@@ -199,12 +252,15 @@ async function runInTransaction(
          quantiles = EXCLUDED.quantiles, quantiles_computed_at = EXCLUDED.quantiles_computed_at, updated_at = EXCLUDED.updated_at`,
       [config.id, config.designVersion, config.fingerprint, now, JSON.stringify(quantiles), quantilesAt, full, changed],
     );
+    lap('write');
     await opts.hooks?.afterSnapshotWrite?.();
 
     const { changes, audit } = await evaluateAlerts(tx, config, snapshotId, built.body, built.sites);
     // Last: the audit append takes the chain lock until commit.
     await appendAudit(tx, systemActor(opts.jobId ?? null), audit);
+    lap('alerts');
     return {
+      timings,
       snapshotId,
       kind,
       enrolled: built.enrolled,
@@ -213,6 +269,9 @@ async function runInTransaction(
       alertsCleared: changes.cleared.length,
     };
   });
+  // Only a committed run's state may be reused; a failed run leaves nothing behind to reuse.
+  if (candidate) warm.set(payload.studyId, candidate);
+  return result;
 }
 
 /** The pg-boss handler for 'balance.recompute'. */
