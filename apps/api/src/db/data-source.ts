@@ -5,9 +5,10 @@ import { Digest1764892800000 } from './migrations/1764892800000-digest.js';
 import { Foundation1764633600000 } from './migrations/1764633600000-foundation.js';
 import { Balance1764720000000 } from './migrations/1764720000000-balance.js';
 import { Analysis1764806400000 } from './migrations/1764806400000-analysis.js';
+import { BalanceSnapshotJson1764979200000 } from './migrations/1764979200000-balance-snapshot-json.js';
 
 /** Every migration, in order. Add new ones at the end; never edit a merged one. */
-export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000];
+export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000];
 
 type DbRole = 'app' | 'owner';
 
