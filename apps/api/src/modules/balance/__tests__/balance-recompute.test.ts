@@ -214,6 +214,28 @@ describe('balance.recompute job', () => {
     });
   });
 
+  it('when the design changes (a new version with a new covariate), then the next run rebuilds from all rows and includes the covariate', async () => {
+    const study = await createBalanceStudy(t, { sites: ['S1', 'S2'], covariates: COVS });
+    const r = rng(12);
+    const ids = await enroll(t, study, Array.from({ length: 30 }, () => person(r, 2, 2)));
+    await runJob(t, { studyId: study.id, reason: 'import' });
+    await enroll(t, study, [person(r, 2, 2)]);
+    await runJob(t, { studyId: study.id, reason: 'enrollment' });
+    expect((await latest(t, study)).kind).toBe('incremental');
+    const [cov] = await t.ownerQuery<{ id: string }>(
+      `INSERT INTO covariate_definition (study_id, key, label, kind, position, required) VALUES ($1, 'bmi', 'BMI', 'continuous', 9, true) RETURNING id`,
+      [study.id],
+    );
+    study.covariates.push({ key: 'bmi', kind: 'continuous', id: cov!.id });
+    for (const [i, id] of ids.entries()) await correct(t, study, id, 'bmi', 20 + (i % 7));
+    await t.ownerQuery(`UPDATE study SET design_version = design_version + 1 WHERE id = $1`, [study.id]);
+    await runJob(t, { studyId: study.id, reason: 'change' });
+    const snap = await latest(t, study);
+    expect(snap.kind).toBe('full');
+    expect(snap.body.snapshot.designVersion).toBe(2);
+    checkScope(study, snap.body, await readCounted(t, study), true, 'after design change');
+  });
+
   it('when a study has three arms, then each arm is compared with the first (reference) arm and the snapshot says so', async () => {
     const study = await createBalanceStudy(t, { sites: ['S1', 'S2'], arms: ['A', 'B', 'C'], covariates: COVS });
     const r = rng(77);
