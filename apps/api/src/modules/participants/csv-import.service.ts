@@ -373,7 +373,6 @@ export async function importParticipants(ctx: AppContext, req: ImportRequest): P
     const seen = new Set<string>();
     const errors: RowError[] = [];
     let columns: Columns | null = null;
-    let valid = 0;
     let skipped = 0;
     const pushError = (e: RowError) => {
       errors.push(e);
@@ -400,7 +399,6 @@ export async function importParticipants(ctx: AppContext, req: ImportRequest): P
           if (parsed) {
             if (seen.has(parsed.importKey)) rowErrors.push({ row: first + j, field: 'participant_ref', message: `Reference '${parsed.importKey}' appears more than once in the file` });
             else if (known.has(parsed.importKey)) skipped++;
-            else valid++;
             seen.add(parsed.importKey);
           }
           rowErrors.forEach(pushError);
