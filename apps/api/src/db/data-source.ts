@@ -6,9 +6,10 @@ import { Foundation1764633600000 } from './migrations/1764633600000-foundation.j
 import { Balance1764720000000 } from './migrations/1764720000000-balance.js';
 import { Analysis1764806400000 } from './migrations/1764806400000-analysis.js';
 import { BalanceSnapshotJson1764979200000 } from './migrations/1764979200000-balance-snapshot-json.js';
+import { BalanceChangeAutovacuum1764979200001 } from './migrations/1764979200001-balance-change-autovacuum.js';
 
 /** Every migration, in order. Add new ones at the end; never edit a merged one. */
-export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000];
+export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000, BalanceChangeAutovacuum1764979200001];
 
 type DbRole = 'app' | 'owner';
 

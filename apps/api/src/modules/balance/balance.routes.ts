@@ -10,6 +10,7 @@ import {
   type BalancePooledView,
   type BaselineTable,
 } from '@counterpoise/contracts/balance';
+import { gzipSync } from 'node:zlib';
 import { Router, type Request, type Response } from 'express';
 import { z } from 'zod';
 import type { AppContext } from '../../app-context.js';
@@ -56,24 +57,33 @@ async function noSnapshot(ctx: AppContext, studyId: string): Promise<never> {
   });
 }
 
-/** Encoded bodies of the hot path, by snapshot and freshness; a snapshot never changes once written. */
-const bodyCache = new Map<string, Buffer>();
+/** Encoded bodies of the hot path (plain and gzip), by snapshot and freshness; a snapshot never changes once written. */
+const bodyCache = new Map<string, { plain: Buffer; gzip: Buffer }>();
 
 /**
  * Sends the stored snapshot text with freshness spliced in, without parsing it (the hot path).
- * The ETag names the snapshot and its freshness, so a poller that already has it gets a 304.
+ * It is compressed once per snapshot, not per request. The ETag names the snapshot and its
+ * freshness, so a poller that already has it gets a 304.
  */
-function sendWithFreshness(res: Response, key: string, fresh: { recomputePending: boolean }, storedJson: string, snapshotId: string): void {
+function sendWithFreshness(req: Request, res: Response, key: string, fresh: { recomputePending: boolean }, storedJson: string, snapshotId: string): void {
   const tag = `${snapshotId}-${fresh.recomputePending ? 'p' : 'c'}`;
   const cacheKey = `${key}|${tag}`;
-  let buf = bodyCache.get(cacheKey);
-  if (!buf) {
-    buf = Buffer.from(`{"freshness":${JSON.stringify(fresh)},${storedJson.slice(1)}`);
+  let body = bodyCache.get(cacheKey);
+  if (!body) {
+    const plain = Buffer.from(`{"freshness":${JSON.stringify(fresh)},${storedJson.slice(1)}`);
+    body = { plain, gzip: gzipSync(plain, { level: 6 }) };
     if (bodyCache.size >= 100) bodyCache.delete(bodyCache.keys().next().value as string);
-    bodyCache.set(cacheKey, buf);
+    bodyCache.set(cacheKey, body);
   }
   res.setHeader('ETag', `"${tag}"`);
-  res.type('application/json').send(buf);
+  res.setHeader('Vary', 'Accept-Encoding');
+  res.type('application/json');
+  if (req.acceptsEncodings('gzip') === 'gzip' && !req.fresh) {
+    res.setHeader('Content-Encoding', 'gzip');
+    res.send(body.gzip);
+    return;
+  }
+  res.send(body.plain);
 }
 
 const freshnessOf = (head: SnapshotHead) => ({
@@ -105,14 +115,14 @@ export function balanceRoutes(ctx: AppContext): Router {
     if (arms) {
       const text = await armsText(ctx.ds, studyId, q.site ?? null, head);
       if (!text) return noSnapshot(ctx, studyId);
-      sendWithFreshness(res, `${studyId}|arms|${q.site ?? ''}`, freshnessOf(head), text, head.id);
+      sendWithFreshness(req, res, `${studyId}|arms|${q.site ?? ''}`, freshnessOf(head), text, head.id);
       return;
     }
     // Pooled and blinded: from the pooled column only, which carries no arm.
     const text = await pooledText(ctx.ds, studyId, head);
     if (!text) return noSnapshot(ctx, studyId);
     if (!q.site) {
-      sendWithFreshness(res, `${studyId}|pooled`, freshnessOf(head), text, head.id);
+      sendWithFreshness(req, res, `${studyId}|pooled`, freshnessOf(head), text, head.id);
       return;
     }
     const pooled = JSON.parse(text) as PooledBody;

@@ -62,6 +62,8 @@ describe('balance routes', () => {
     expect(view.snapshot.enrolledCount).toBe(80);
     expect(view.siteGrid).toHaveLength(2);
     expect(view.cautions.join(' ')).toMatch(/does not justify adding a covariate/);
+    // Compressed once per snapshot for clients that accept it (supertest asks for gzip, as browsers do).
+    expect(res.headers['content-encoding']).toBe('gzip');
     // A poller that already has this snapshot gets a 304 and no body.
     const etag = res.headers.etag as string;
     expect(etag).toContain(view.snapshot.id);
