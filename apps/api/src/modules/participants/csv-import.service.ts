@@ -281,6 +281,16 @@ async function streamRows(
 
 class HeaderStop extends Error {}
 
+/** Runs a streaming pass; if it fails, waits for the write in flight to settle before the transaction rolls back. */
+async function streamRowsSettled<T>(inFlight: () => Promise<void>, run: () => Promise<T>): Promise<T> {
+  try {
+    return await run();
+  } catch (err) {
+    await inFlight().catch(() => undefined);
+    throw err;
+  }
+}
+
 /** Like streamRows, but a header that fails its checks ends the pass early with null. */
 async function streamRowsOrHeaderStop(...args: Parameters<typeof streamRows>): Promise<Awaited<ReturnType<typeof streamRows>> | null> {
   try {
@@ -458,7 +468,10 @@ export async function importParticipants(ctx: AppContext, req: ImportRequest): P
       let imported = 0;
       let skippedNow = 0;
       let written = 0;
-      await streamRows(
+      // Pipeline: while one batch is being written, the next is parsed and validated (CPU and
+      // database overlap on two cores). Writes stay strictly in file order, one at a time.
+      let writing: Promise<void> = Promise.resolve();
+      await streamRowsSettled(() => writing, () => streamRows(
         req.filePath,
         sniffed,
         () => undefined,
@@ -477,13 +490,22 @@ export async function importParticipants(ctx: AppContext, req: ImportRequest): P
             if (parsed.kind === 'enroll') enroll.push(parsed.value);
             else screened.push(parsed);
           });
-          if (enroll.length) await enrollValidated(tx, ctx, lockedDesign, req.actor, enroll, { auditMode: 'batch', skipJob: true });
-          if (screened.length) await writeScreened(tx, lockedDesign, req.actor, screened);
-          imported += enroll.length + screened.length;
-          written += rows.length;
-          progress('writing', written, total);
+          const previous = writing;
+          writing = (async () => {
+            await previous;
+            if (enroll.length) await enrollValidated(tx, ctx, lockedDesign, req.actor, enroll, { auditMode: 'batch', skipJob: true });
+            if (screened.length) await writeScreened(tx, lockedDesign, req.actor, screened);
+            imported += enroll.length + screened.length;
+            written += rows.length;
+            progress('writing', written, total);
+          })();
+          // Failures surface through the awaits below; this only keeps them from counting as unhandled meanwhile.
+          writing.catch(() => undefined);
+          // Let at most one batch wait behind the one being written (bounded memory).
+          await previous;
         },
-      );
+      ));
+      await writing;
       await ctx.jobs.send(tx, 'balance.recompute', { studyId: req.studyId, reason: 'participants imported' }, { singletonKey: req.studyId });
       await appendAudit(tx, req.actor, [
         {
