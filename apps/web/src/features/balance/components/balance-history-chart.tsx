@@ -58,7 +58,11 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
     latestBand * 1.6,
   );
   const yMax = Math.min(1.5, extent * 1.15);
-  const x = scaleLinear<number>({ domain: [minN, maxN], range: [0, innerWidth] });
+  // One snapshot gives no span to draw over: widen the axis around it.
+  const x = scaleLinear<number>({
+    domain: minN < maxN ? [minN, maxN] : [0, Math.ceil(maxN * 1.05)],
+    range: [0, innerWidth],
+  });
   const y = scaleLinear<number>({ domain: [-yMax, yMax], range: [innerHeight, 0], nice: true, clamp: true });
   const banded = points.filter((p): p is Point & { halfWidth: number } => p.halfWidth !== null);
   const drawn = points.filter((p): p is Point & { smd: number } => p.smd !== null);
@@ -85,6 +89,12 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
           </option>
         ))}
       </SelectField>
+      {points.length < 2 && (
+        <p className="text-sm text-graphite" role="note">
+          Only one snapshot so far: the line and its narrowing band fill in as enrollment continues and each
+          change is recomputed.
+        </p>
+      )}
       <div ref={ref} className="w-full">
         <svg
           width={width}
@@ -145,6 +155,17 @@ export function BalanceHistoryChart({ history }: { history: BalanceHistory }) {
               stroke={chartColors.point}
               strokeWidth={2}
             />
+            {banded.length === 1 && lastBand && (
+              <rect
+                x={x(lastBand.enrolledCount) - 8}
+                width={16}
+                y={y(lastBand.halfWidth)}
+                height={y(-lastBand.halfWidth) - y(lastBand.halfWidth)}
+                fill={chartColors.band}
+                stroke={chartColors.bandEdge}
+                strokeOpacity={0.6}
+              />
+            )}
             {last && <circle cx={x(last.enrolledCount)} cy={y(last.smd)} r={4.5} fill={chartColors.point} />}
             <AxisLeft
               scale={y}
