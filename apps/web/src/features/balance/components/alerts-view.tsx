@@ -4,6 +4,7 @@ import { balanceCautions, type Alert } from '@counterpoise/contracts/balance';
 import type { StudySummary } from '@counterpoise/contracts/studies';
 import { Button } from '../../../components/ui/button.js';
 import { Callout } from '../../../components/ui/callout.js';
+import { CheckboxField } from '../../../components/ui/field.js';
 import { EmptyState, ErrorState, LoadingState } from '../../../components/ui/states.js';
 import { StatisticianCaution } from '../../../components/ui/statistician-caution.js';
 import { useAlerts } from '../api/get-alerts.js';
@@ -23,6 +24,7 @@ const filters: Array<{ id: Filter; label: string }> = [
 export function AlertsView({ study }: { study: StudySummary }) {
   const [filter, setFilter] = useState<Filter>('open');
   const [done, setDone] = useState<Alert | null>(null);
+  const [beyondOnly, setBeyondOnly] = useState(false);
   // One list for every state, filtered here, so the filter buttons can show their counts.
   const alerts = useAlerts(study.id, 'all');
   const randomized = study.kind === 'randomized_trial';
@@ -39,7 +41,9 @@ export function AlertsView({ study }: { study: StudySummary }) {
   });
   const chanceFor = (siteId: string | null): ChanceInfo | undefined => chance[scopes.indexOf(siteId)]?.data;
 
-  const shown = filter === 'all' ? all : all.filter((a) => a.state === filter);
+  const shown = all.filter(
+    (a) => (filter === 'all' || a.state === filter) && (!beyondOnly || a.rule === 'smd_beyond_chance'),
+  );
   const count = (f: Filter) => (f === 'all' ? all.length : all.filter((a) => a.state === f).length);
   const openBeyond = all.filter((a) => a.state === 'open' && a.rule === 'smd_beyond_chance').length;
 
@@ -84,6 +88,12 @@ export function AlertsView({ study }: { study: StudySummary }) {
           </Button>
         ))}
       </div>
+      <CheckboxField
+        label="Only alerts beyond the chance band"
+        hint="Hides threshold and variance-ratio alerts that chance alone would often produce at these group sizes."
+        checked={beyondOnly}
+        onChange={(e) => setBeyondOnly(e.currentTarget.checked)}
+      />
       <div aria-live="polite">
         {done && (
           <Callout tone="success" role="status">
