@@ -20,6 +20,7 @@ import type { QuantileSet } from './balance-compute.js';
 import { loadStudyConfig, rows } from './balance-config.js';
 import { computeQuantiles } from './balance-quantiles.js';
 import { buildSnapshot, type SiteReuse } from './balance-snapshot.js';
+import { forgetHead } from './balance.service.js';
 import { computeWeighting, loadWeightingRows } from './balance-weighting.js';
 
 export const BALANCE_QUEUE = 'balance.recompute';
@@ -271,6 +272,7 @@ async function runInTransaction(
   });
   // Only a committed run's state may be reused; a failed run leaves nothing behind to reuse.
   if (candidate) warm.set(payload.studyId, candidate);
+  forgetHead(payload.studyId);
   return result;
 }
 

@@ -29,7 +29,9 @@ import {
   baselinePValues,
   baselineTable,
   freshness,
+  forgetHead,
   latestHead,
+  latestHeadCached,
   listAlerts,
   pooledText,
   type SnapshotHead,
@@ -110,7 +112,7 @@ export function balanceRoutes(ctx: AppContext): Router {
     await assertSite(ctx, studyId, q.site);
     const arms = q.view ? q.view === 'arms' : access.permissions.includes('balance.arms');
     if (arms) requireArms(access);
-    const head = await latestHead(ctx.ds, studyId);
+    const head = await latestHeadCached(ctx.ds, studyId);
     if (!head) return noSnapshot(ctx, studyId);
     if (arms) {
       const text = await armsText(ctx.ds, studyId, q.site ?? null, head);
@@ -201,6 +203,7 @@ export function balanceRoutes(ctx: AppContext): Router {
       ]);
       return id;
     });
+    forgetHead(studyId);
     res.status(202).json({ jobId, alreadyPending: jobId === null });
   });
 

@@ -35,6 +35,30 @@ export async function freshness(db: Queryable, studyId: string, computedAt: Date
 
 export type SnapshotHead = { id: string; computedAt: Date; enrolled: number; pending: boolean };
 
+/**
+ * How long a looked-up head may be reused by this process: dashboards poll, and under load one
+ * query per poll per client is the largest cost left. Freshness is then at most this stale.
+ */
+export const HEAD_TTL_MS = 250;
+const heads = new Map<string, { at: number; head: SnapshotHead }>();
+
+/** Forgets the cached head (after this process queued a job or wrote a snapshot). */
+export function forgetHead(studyId: string): void {
+  heads.delete(studyId);
+}
+
+/** latestHead, reused for HEAD_TTL_MS. */
+export async function latestHeadCached(db: Queryable, studyId: string): Promise<SnapshotHead | null> {
+  const hit = heads.get(studyId);
+  if (hit && performance.now() - hit.at < HEAD_TTL_MS) return hit.head;
+  const head = await latestHead(db, studyId);
+  if (head) {
+    if (heads.size > 1000) heads.clear();
+    heads.set(studyId, { at: performance.now(), head });
+  }
+  return head;
+}
+
 /** The latest snapshot's id and time, and whether a recompute is pending, in one round trip. */
 export async function latestHead(db: Queryable, studyId: string): Promise<SnapshotHead | null> {
   const [r] = await rows<{ id: string; computed_at: Date; enrolled_count: number; pending: boolean }>(
