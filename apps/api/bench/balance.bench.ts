@@ -1,7 +1,8 @@
 /**
  * Balance monitoring benchmark (figures only; nothing here asserts on time).
  *
- *   cd apps/api && node --import tsx bench/balance.bench.ts [--participants 100000] [--quick]
+ *   cd apps/api && node --import tsx bench/balance.bench.ts [--participants 100000] [--quick] [--reuse]
+ *     [--only full,incremental,get,stream] [--out figures.json]
  *
  * Builds a throwaway database `cp_bench_balance` with one randomized study of 100,000
  * participants, 30 covariates (20 continuous, 5 binary, 5 categorical with 4 levels) and 50
@@ -413,10 +414,11 @@ export async function run(): Promise<void> {
 
   console.log('\nBalance benchmark');
   for (const [k, v] of Object.entries(figures)) console.log(`  ${k}: ${v}`);
-  fs.writeFileSync(
-    path.join(here, 'balance.bench.last.json'),
-    JSON.stringify({ at: new Date().toISOString(), participants: PARTICIPANTS, figures }, null, 2),
-  );
+  const out = args.indexOf('--out');
+  if (out >= 0) {
+    const record = { at: new Date().toISOString(), participants: PARTICIPANTS, figures };
+    fs.writeFileSync(String(args[out + 1]), JSON.stringify(record, null, 2));
+  }
 
   await jobs.stop();
   await ds.destroy();
