@@ -296,11 +296,14 @@ export async function run(): Promise<void> {
     // autovacuum migration); without it every run would step over 3M dead index entries.
     await owner.query(`VACUUM ANALYZE balance_change`);
     const fulls: number[] = [];
+    let stages = '';
     for (let i = 0; i < (quick ? 2 : 5); i++) {
       t = performance.now();
-      await recomputeBalance(ctx, { studyId: s.studyId, reason: 'manual', full: true });
+      const r = await recomputeBalance(ctx, { studyId: s.studyId, reason: 'manual', full: true });
       fulls.push(performance.now() - t);
+      stages = JSON.stringify(r?.timings);
     }
+    figures['full recompute, stages of the last run (ms)'] = stages;
     figures['full recompute (moments, SMDs, bands, flags, alerts, snapshot), median of runs'] =
       `${ms(pct(fulls, 50))} (runs: ${fulls.map((x) => x.toFixed(0)).join(', ')} ms)`;
     t = performance.now();
