@@ -151,6 +151,14 @@ export const alertRulesSchema = z.object({
   varianceRatio: z.tuple([z.number().positive(), z.number().positive()]).default([0.5, 2]),
   chanceAware: z.boolean().default(true),
   minPerArmForSiteAlerts: z.number().int().min(1).max(10_000).default(10),
+  /**
+   * Which rules also alert per site. By default only the chance-aware one: at the size of a
+   * site a fixed |SMD| threshold is crossed by chance most of the time (with 50 per arm about
+   * 62% for 0.1), so per-site threshold alerts would mostly report noise (DOMAIN caution 11).
+   */
+  siteRules: z
+    .array(z.enum(['smd_threshold', 'variance_ratio', 'smd_beyond_chance']))
+    .default(['smd_beyond_chance']),
 });
 export type AlertRules = z.infer<typeof alertRulesSchema>;
 export const defaultAlertRules: AlertRules = {
@@ -158,6 +166,7 @@ export const defaultAlertRules: AlertRules = {
   varianceRatio: [0.5, 2],
   chanceAware: true,
   minPerArmForSiteAlerts: 10,
+  siteRules: ['smd_beyond_chance'],
 };
 
 const STRATUM_KINDS = new Set(['binary', 'categorical']);

@@ -78,10 +78,15 @@ async function ensureStudy(tx: EntityManager, s: StudySeed): Promise<{ id: strin
  * the job queue) the study designs and enrolled participants (seed-enrollment.ts).
  * Idempotent: a second run finds everything and adds nothing.
  */
-export async function seedDemo(ds: DataSource, passwordHash: string, jobs?: JobQueue): Promise<{ created: boolean; detail: string }> {
+export async function seedDemo(
+  ds: DataSource,
+  passwordHash: string,
+  jobs?: JobQueue,
+  afterStep?: (studyId: string) => Promise<void>,
+): Promise<{ created: boolean; detail: string }> {
   const base = await seedAccountsAndStudies(ds, passwordHash);
   if (!jobs) return base;
-  const enrolled = await seedEnrollment({ ds, jobs });
+  const enrolled = await seedEnrollment({ ds, jobs }, afterStep);
   if (!enrolled) return base;
   return { created: true, detail: [base.detail, enrolled].filter(Boolean).join('; ') };
 }

@@ -82,7 +82,7 @@ function hearthstoneDesign(d: StudyDesign): DesignBodyInput {
   };
 }
 
-type Draft = { siteId: string; siteCode: string; enrollmentDate: string; values: Record<string, number | string | boolean>; exposure?: string };
+export type Draft = { siteId: string; siteCode: string; enrollmentDate: string; values: Record<string, number | string | boolean>; exposure?: string };
 
 function toValid(design: StudyDesign, draft: Draft, today: string, rng: Rng): ValidEnrollment {
   const baseline: Record<string, { value: number | string | boolean; measuredOn: string }> = {};
@@ -110,9 +110,31 @@ function dates(n: number, rng: Rng, today: string): string[] {
   return Array.from({ length: n }, () => Math.floor(rng.next() * 330) + 3).sort((a, b) => b - a).map((d) => addDays(today, -d));
 }
 
-function kestrelParticipants(design: StudyDesign, rng: Rng, today: string): ValidEnrollment[] {
+/**
+ * The demo trial's story, fixed by these seeds: balanced overall, and at Sable Ridge Hospital
+ * (SRH) age drifting apart between the arms beyond what chance explains. The generator and the
+ * allocation are random; these two seeds were picked from a search (demo-story.test.ts checks the
+ * story they give) so that the invented demo reads the same on every machine.
+ */
+export const KESTREL_STORY = {
+  dataSeed: 'counterpoise-demo/KESTREL/v2',
+  allocationSeed: 'kestrel-demo-allocation-3522',
+  /** Years of age between the arms at SRH, generated conditional on the allocated arm. */
+  srhAgeGap: 5,
+};
+
+/** The demo cohort's generator seed (demo-story.test.ts checks its story: imbalanced before weighting, balanced after). */
+export const HEARTHSTONE_STORY = { dataSeed: 'counterpoise-demo/HEARTHSTONE/v5' };
+
+export type KestrelDraft = Draft & { arm: string };
+
+/**
+ * KESTREL's participants in enrollment order, each with the arm the permuted blocks will give
+ * it (a pure function of the stored seed, stratum and position, counters starting at zero).
+ */
+export function kestrelDrafts(design: StudyDesign, rng: Rng, today: string, srhAgeGap = KESTREL_STORY.srhAgeGap): KestrelDraft[] {
   const perSite: Record<string, number> = { ALB: 68, KHM: 64, MPC: 48, SRH: 62, TVH: 50, WFI: 40 };
-  const drafts: Draft[] = [];
+  const drafts: KestrelDraft[] = [];
   const when = dates(Object.values(perSite).reduce((a, b) => a + b, 0), rng, today);
   const order = Object.entries(perSite).flatMap(([code, n]) => Array.from({ length: n }, () => code));
   // Shuffle sites over time (Fisher-Yates) so every site enrolls throughout the year.
@@ -120,42 +142,35 @@ function kestrelParticipants(design: StudyDesign, rng: Rng, today: string): Vali
     const j = rng.int(i + 1);
     [order[i], order[j]] = [order[j]!, order[i]!];
   }
+  const next = new Map<string, number>();
+  const first = design.arms[0]!.code;
   order.forEach((code, i) => {
     const site = design.sites.find((s) => s.code === code)!;
     const fev1 = round(clamp(normal(rng, 52, 12), 30, 80), 1);
-    drafts.push({
-      siteId: site.id,
-      siteCode: code,
-      enrollmentDate: when[i]!,
-      values: {
-        age: Math.round(clamp(normal(rng, 66, 8.5), 40, 92)),
-        sex: rng.next() < 0.46 ? 'female' : 'male',
-        smoking: pick(rng, ['never', 'former', 'current'], [0.12, 0.58, 0.3]),
-        six_mwd: Math.round(clamp(normal(rng, 340 + 2.2 * (fev1 - 52), 85), 60, 850)),
-        fev1_pct: fev1,
-        bmi: round(clamp(normal(rng, 26.5, 4.8), 16, 48), 1),
-        prior_exacerbations: Math.min(12, Math.floor(-Math.log(1 - rng.next()) * 1.6)),
-        oxygen_therapy: rng.next() < (fev1 < 40 ? 0.35 : 0.1),
-      },
-    });
-  });
-  // The arm each will get is fixed by stratum and position (permuted blocks from the stored
-  // seed, counters starting at zero). At SRH only, make age depend on it: the demo's drift.
-  const next = new Map<string, number>();
-  const hbw = design.arms[0]!.code;
-  for (const d of drafts) {
-    if (d.siteCode !== 'SRH') {
-      const k = stratumKey(design, d.siteCode, { smoking: levelOf('categorical', d.values.smoking) });
-      next.set(k, (next.get(k) ?? 0) + 1);
-      continue;
-    }
-    const k = stratumKey(design, d.siteCode, { smoking: levelOf('categorical', d.values.smoking) });
+    const values: Draft['values'] = {
+      age: Math.round(clamp(normal(rng, 66, 8.5), 40, 92)),
+      sex: rng.next() < 0.46 ? 'female' : 'male',
+      smoking: pick(rng, ['never', 'former', 'current'], [0.12, 0.58, 0.3]),
+      six_mwd: Math.round(clamp(normal(rng, 340 + 2.2 * (fev1 - 52), 85), 60, 850)),
+      fev1_pct: fev1,
+      bmi: round(clamp(normal(rng, 26.5, 4.8), 16, 48), 1),
+      prior_exacerbations: Math.min(12, Math.floor(-Math.log(1 - rng.next()) * 1.6)),
+      oxygen_therapy: rng.next() < (fev1 < 40 ? 0.35 : 0.1),
+    };
+    const k = stratumKey(design, code, { smoking: levelOf('categorical', values.smoking) });
     const position = next.get(k) ?? 0;
     next.set(k, position + 1);
     const arm = blockSequence(design, k, position + 1).assignments[position]!.arm;
-    d.values.age = Math.round(clamp(normal(rng, arm === hbw ? 71 : 62, 7.5), 40, 92));
-  }
-  return drafts.map((d) => toValid(design, d, today, rng));
+    // At SRH only, age depends on the arm: the drift the balance monitor is to find.
+    const age = values.age as number;
+    if (code === 'SRH') values.age = Math.round(clamp(age + (arm === first ? srhAgeGap / 2 : -srhAgeGap / 2), 40, 92));
+    drafts.push({ siteId: site.id, siteCode: code, enrollmentDate: when[i]!, values, arm });
+  });
+  return drafts;
+}
+
+function kestrelParticipants(design: StudyDesign, rng: Rng, today: string): ValidEnrollment[] {
+  return kestrelDrafts(design, rng, today).map((d) => toValid(design, d, today, rng));
 }
 
 function hearthstoneParticipants(design: StudyDesign, rng: Rng, today: string): ValidEnrollment[] {
@@ -188,33 +203,55 @@ function hearthstoneParticipants(design: StudyDesign, rng: Rng, today: string): 
   });
 }
 
-async function ensureDesign(ctx: Pick<AppContext, 'ds' | 'jobs'>, studyId: string, build: (d: StudyDesign) => DesignBodyInput): Promise<StudyDesign> {
+async function ensureDesign(
+  ctx: Pick<AppContext, 'ds' | 'jobs'>,
+  studyId: string,
+  build: (d: StudyDesign) => DesignBodyInput,
+  seed?: string,
+): Promise<StudyDesign> {
   forgetDesign(studyId);
   let design = await loadDesign(ctx.ds, studyId);
   if (!design.allocation) {
-    await saveDesign(ctx as AppContext, SEED_ACTOR, studyId, designBodySchema.parse(build(design)));
+    await saveDesign(ctx as AppContext, SEED_ACTOR, studyId, designBodySchema.parse(build(design)), seed ? { seed } : {});
     design = await loadDesign(ctx.ds, studyId);
   }
   return design;
 }
 
-/** Idempotent: designs only where none is saved, participants only where none is enrolled. */
-export async function seedEnrollment(ctx: Pick<AppContext, 'ds' | 'jobs'>): Promise<string> {
+/** Enrollment goes in this many steps, each followed by a balance snapshot, so the demo has a history. */
+const HISTORY_STEPS = 12;
+
+/**
+ * Idempotent: designs only where none is saved, participants only where none is enrolled.
+ * `afterStep` (given by the seed command) computes a balance snapshot after each step of
+ * enrollment, so the balance history of the demo grows over time as it would in a real study.
+ */
+export async function seedEnrollment(
+  ctx: Pick<AppContext, 'ds' | 'jobs'>,
+  afterStep?: (studyId: string) => Promise<void>,
+): Promise<string> {
   const studies: { id: string; code: string }[] = await ctx.ds.query(`SELECT id, code FROM study WHERE code = ANY($1::text[])`, [['KESTREL', 'HEARTHSTONE']]);
   const today = utcToday();
   const done: string[] = [];
   for (const s of studies) {
-    const design = await ensureDesign(ctx, s.id, s.code === 'KESTREL' ? kestrelDesign : hearthstoneDesign);
+    const trial = s.code === 'KESTREL';
+    const design = await ensureDesign(ctx, s.id, trial ? kestrelDesign : hearthstoneDesign, trial ? KESTREL_STORY.allocationSeed : undefined);
     const enrolled: { n: number }[] = await ctx.ds.query(`SELECT count(*)::int AS n FROM participant WHERE study_id = $1`, [s.id]);
     if (enrolled[0]!.n > 0) continue;
-    const rng = createRng(`counterpoise-demo/${s.code}/v1`);
-    const items = s.code === 'KESTREL' ? kestrelParticipants(design, rng, today) : hearthstoneParticipants(design, rng, today);
-    const result = await inTransaction(ctx.ds, async (tx) => {
-      const locked = await loadDesign(tx, s.id, { lock: true });
-      return enrollValidated(tx, ctx, locked, SEED_ACTOR, items, { auditMode: 'batch' });
-    });
-    if (s.code === 'KESTREL') await screenFailures(ctx, design, rng);
-    done.push(`${s.code}: ${result.length} enrolled`);
+    const rng = createRng(trial ? KESTREL_STORY.dataSeed : HEARTHSTONE_STORY.dataSeed);
+    const items = trial ? kestrelParticipants(design, rng, today) : hearthstoneParticipants(design, rng, today);
+    const step = Math.ceil(items.length / HISTORY_STEPS);
+    let count = 0;
+    for (let start = 0; start < items.length; start += step) {
+      const result = await inTransaction(ctx.ds, async (tx) => {
+        const locked = await loadDesign(tx, s.id, { lock: true });
+        return enrollValidated(tx, ctx, locked, SEED_ACTOR, items.slice(start, start + step), { auditMode: 'batch' });
+      });
+      count += result.length;
+      await afterStep?.(s.id);
+    }
+    if (trial) await screenFailures(ctx, design, rng);
+    done.push(`${s.code}: ${count} enrolled`);
   }
   return done.join(', ');
 }

@@ -36,6 +36,34 @@ function holding(rules: BalanceRules, c: ArmComparison): Map<AlertRule, boolean>
   return out;
 }
 
+/**
+ * Cohort conditions from the weighted comparison: |SMD after weighting| over the threshold and
+ * the weighted variance ratio outside its band. Without a usable weighting model, the unweighted
+ * figures stand in (still without the chance rule).
+ */
+function considerWeighted(
+  body: SnapshotBody,
+  rules: BalanceRules,
+  evaluated: Map<string, { condition: Condition; holds: boolean }>,
+) {
+  const w = body.weighting;
+  for (const cov of body.covariates) {
+    for (const c of cov.balance.comparisons) {
+      const after = w?.status === 'ok' ? w.covariates.find((x) => x.key === cov.key) : undefined;
+      const smd = after ? after.smdAfter : c.smd;
+      const vr = after ? after.varianceRatioAfter : c.varianceRatio;
+      const comparison: ArmComparison = { ...c, smd, varianceRatio: vr, chanceBand: null };
+      const add = (rule: AlertRule, holds: boolean) =>
+        evaluated.set(conditionKey(rule, cov.key, null, c.armId), {
+          condition: { rule, covariateKey: cov.key, siteId: null, armId: c.armId, referenceArmId: c.referenceArmId, comparison },
+          holds,
+        });
+      if (smd !== null) add('smd_threshold', Math.abs(smd) > rules.smdThreshold);
+      if (vr !== null) add('variance_ratio', vr < rules.varianceRatio[0] || vr > rules.varianceRatio[1]);
+    }
+  }
+}
+
 type LiveAlert = {
   id: string;
   rule: AlertRule;
@@ -75,8 +103,19 @@ export async function evaluateAlerts(
       }
     }
   };
-  consider(null, body.covariates);
-  for (const [siteId, detail] of sites) if (detail.site?.judgeable) consider(siteId, detail.covariates);
+  if (config.kind === 'observational_cohort') {
+    // Groups that were not randomized differ by design; the question is whether weighting
+    // balanced them. So a cohort alerts on the weighted figures, overall, and chance plays no part.
+    considerWeighted(body, rules, evaluated);
+  } else {
+    consider(null, body.covariates);
+    const siteRules = new Set(config.rules.siteRules);
+    for (const [siteId, detail] of sites) {
+      if (!detail.site?.judgeable) continue;
+      consider(siteId, detail.covariates);
+      for (const [key, e] of evaluated) if (e.condition.siteId === siteId && !siteRules.has(e.condition.rule)) evaluated.delete(key);
+    }
+  }
 
   const live = await rows<LiveAlert>(
     tx,
@@ -269,7 +308,7 @@ export async function sendPendingNotifications(ctx: AppContext, db: Queryable, c
     `SELECT n.id, n.recipient_email, n.recipient_user_id, a.rule, a.covariate_key, a.site_id, a.arm_id, a.reference_arm_id,
             a.last_smd, a.last_variance_ratio, a.last_half_width, a.last_n_arm, a.last_n_reference, a.opened_at
        FROM alert_notification n JOIN alert a ON a.id = n.alert_id
-      WHERE a.study_id = $1 AND n.sent_at IS NULL
+      WHERE a.study_id = $1 AND n.sent_at IS NULL AND a.state IN ('open', 'acknowledged')
       ORDER BY n.recipient_email, a.opened_at, a.covariate_key`,
     [config.id],
   );

@@ -116,7 +116,17 @@ async function syncRows(
   }
 }
 
-export async function saveDesign(ctx: AppContext, actor: AuditActor, studyId: string, input: DesignBody): Promise<void> {
+/**
+ * `opts.seed` fixes the allocation seed of a new scheme; only the invented demo uses it, so that
+ * its story is the same on every machine. Everywhere else the server draws the seed.
+ */
+export async function saveDesign(
+  ctx: AppContext,
+  actor: AuditActor,
+  studyId: string,
+  input: DesignBody,
+  opts: { seed?: string } = {},
+): Promise<void> {
   await inTransaction(ctx.ds, async (tx) => {
     // FOR UPDATE waits for enrollments in flight (they hold FOR KEY SHARE) and blocks new ones until commit.
     const lockedRows: { kind: string; design: StoredDesign }[] = await tx.query(
@@ -146,7 +156,7 @@ export async function saveDesign(ctx: AppContext, actor: AuditActor, studyId: st
     }
 
     // The seed is made here, server-side, once; it stays with the study so the list can be reproduced.
-    const seed = before.allocation?.seed && before.allocation.method === input.allocation.method ? before.allocation.seed : randomBytes(16).toString('hex');
+    const seed = before.allocation?.seed && before.allocation.method === input.allocation.method ? before.allocation.seed : (opts.seed ?? randomBytes(16).toString('hex'));
     const allocation: StoredAllocation = { ...input.allocation, ...(input.allocation.method === 'exposure_recorded' ? {} : { seed }), ...algorithmOf(input.allocation.method) };
     const stored: StoredDesign = {
       screeningQuestions: input.screeningQuestions,

@@ -30,7 +30,13 @@ describe('balance drift alerts', () => {
 
   beforeAll(async () => {
     t = await createTestContext();
-    study = await createBalanceStudy(t, { sites: ['S1', 'S2', 'S3', 'S4', 'S5'], covariates: COVS });
+    // Site-level threshold alerts switched on as well as the chance-aware ones (the default is
+    // chance-aware only at sites; see the test of the defaults below).
+    study = await createBalanceStudy(t, {
+      sites: ['S1', 'S2', 'S3', 'S4', 'S5'],
+      covariates: COVS,
+      design: { alertRules: { siteRules: ['smd_threshold', 'smd_beyond_chance'] } },
+    });
     stats = [
       await createUser(t, { memberships: [{ studyId: study.id, role: 'statistician' }] }),
       await createUser(t, { memberships: [{ studyId: study.id, role: 'statistician' }] }),
@@ -158,5 +164,25 @@ describe('balance drift alerts', () => {
     const mails = await t.smtp.list();
     expect(mails.length).toBe(before + 2);
     expect(mails.slice(before).flatMap((m) => m.to).sort()).toEqual(stats.map((s) => s.email).sort());
+  });
+
+  it('with the default rules, a site alerts only beyond its chance band, never on the bare 0.1 threshold', async () => {
+    const t2 = await createTestContext();
+    try {
+      const s2 = await createBalanceStudy(t2, { sites: ['D1', 'D2'], covariates: COVS });
+      // D1: a modest age gap (SMD about 0.3, over 0.1 but inside the chance band of 20 per arm);
+      // D2: a large one (SMD above 1, beyond the band).
+      const rows: Enrollee[] = [];
+      for (let i = 0; i < 20; i++) rows.push(...pair(0, i, 2), ...pair(1, i, 12));
+      await enroll(t2, s2, rows);
+      await runJob(t2, { studyId: s2.id, reason: 'enrollment' });
+      const alerts = await t2.ownerQuery<{ rule: string; site_id: string | null }>(
+        `SELECT rule, site_id FROM alert WHERE study_id = $1 AND site_id IS NOT NULL ORDER BY rule`,
+        [s2.id],
+      );
+      expect(alerts).toEqual([{ rule: 'smd_beyond_chance', site_id: s2.siteIds[1] }]);
+    } finally {
+      await t2.close();
+    }
   });
 });

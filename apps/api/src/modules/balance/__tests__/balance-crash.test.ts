@@ -47,7 +47,12 @@ describe('killing the worker mid-recompute', () => {
 
   beforeAll(async () => {
     t = await createTestContext();
-    study = await createBalanceStudy(t, { sites: ['S1', 'S2', 'S3'], covariates: [{ key: 'age', kind: 'continuous' }] });
+    study = await createBalanceStudy(t, {
+      sites: ['S1', 'S2', 'S3'],
+      covariates: [{ key: 'age', kind: 'continuous' }],
+      // Threshold alerts at sites too (by default sites alert only beyond their chance band).
+      design: { alertRules: { siteRules: ['smd_threshold', 'smd_beyond_chance'] } },
+    });
     stats = [
       (await createUser(t, { memberships: [{ studyId: study.id, role: 'statistician' }] })).email,
       (await createUser(t, { memberships: [{ studyId: study.id, role: 'statistician' }] })).email,
