@@ -26,14 +26,18 @@ export const axisTickLabel = {
   fontFamily: 'IBM Plex Mono, ui-monospace, monospace',
 } as const;
 
-/** Bins of |SMD| for the site grid: the conventional 0.1 first, then 0.2 and 0.3 (common practice). */
-export const smdBins = [
-  { max: 0.1, label: 'under 0.10', bg: '#e9f1e2', fg: '#335f2a' },
-  { max: 0.2, label: '0.10 to 0.20', bg: '#fbf0d8', fg: '#6e4a0a' },
-  { max: 0.3, label: '0.20 to 0.30', bg: '#f3d7ad', fg: '#5a3c06' },
-  { max: Number.POSITIVE_INFINITY, label: '0.30 or more', bg: '#f2c9c1', fg: '#7a231d' },
+/**
+ * Bins of |SMD| relative to the 95% chance band of the cell's own group sizes. At the size of
+ * a site a fixed 0.1 or 0.3 is crossed by chance most of the time, so the grid's colour says how
+ * far a figure is from what chance produces there, and the printed value keeps the magnitude.
+ */
+export const chanceBins = [
+  { max: 0.5, label: 'well inside the chance band (under half of it)', bg: '#e9f1e2', fg: '#335f2a' },
+  { max: 1, label: 'inside the chance band', bg: '#fbf0d8', fg: '#6e4a0a' },
+  { max: Number.POSITIVE_INFINITY, label: 'beyond the chance band', bg: '#f2c9c1', fg: '#7a231d' },
 ] as const;
 
-export function smdBin(absSmd: number) {
-  return smdBins.find((b) => absSmd < b.max) ?? smdBins[smdBins.length - 1]!;
+export function chanceBin(absSmd: number, halfWidth: number) {
+  const ratio = halfWidth > 0 ? absSmd / halfWidth : Number.POSITIVE_INFINITY;
+  return chanceBins.find((b) => ratio < b.max) ?? chanceBins[chanceBins.length - 1]!;
 }

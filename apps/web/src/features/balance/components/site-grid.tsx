@@ -1,6 +1,6 @@
 import { balanceCautions, type BalanceArmsView } from '@counterpoise/contracts/balance';
 import { Callout } from '../../../components/ui/callout.js';
-import { smdBin, smdBins } from './chart-theme.js';
+import { chanceBin, chanceBins } from './chart-theme.js';
 import { armLabel, formatBand, formatSmd } from './format.js';
 
 // Hatching marks a suppressed cell without relying on colour alone.
@@ -9,8 +9,8 @@ const suppressed = 'bg-[repeating-linear-gradient(45deg,#f7f3ec_0,#f7f3ec_4px,#e
 type SiteRow = NonNullable<BalanceArmsView['siteGrid']>[number];
 
 /**
- * Sites down, covariates across; each cell is coloured by |SMD| and also carries the value, so
- * colour is never the only cue. Sites with fewer than the minimum per arm show no SMD at all:
+ * Sites down, covariates across; each cell is coloured by how its |SMD| compares with the site's
+ * own chance band and also carries the value, so colour is never the only cue. Sites with fewer than the minimum per arm show no SMD at all:
  * a figure from a handful of participants would be read as a signal it is not (caution 11).
  */
 export function SiteGrid({ view }: { view: BalanceArmsView }) {
@@ -63,9 +63,12 @@ export function SiteGrid({ view }: { view: BalanceArmsView }) {
           </tbody>
         </table>
       </div>
-      <ul className="flex flex-wrap gap-x-4 gap-y-2 text-sm text-graphite" aria-label="Colour key for |SMD|">
-        <li className="font-semibold text-ink">|SMD|:</li>
-        {smdBins.map((b) => (
+      <ul
+        className="flex flex-wrap gap-x-4 gap-y-2 text-sm text-graphite"
+        aria-label="Colour key: |SMD| against the site's chance band"
+      >
+        <li className="font-semibold text-ink">|SMD| against the site&apos;s 95% chance band:</li>
+        {chanceBins.map((b) => (
           <li key={b.label} className="flex items-center gap-1.5">
             <span
               aria-hidden="true"
@@ -119,7 +122,13 @@ function SiteGridRow({ site, view, multi }: { site: SiteRow; view: BalanceArmsVi
           );
         }
         const first = cell?.comparisons[0];
-        const bin = first?.smd !== null && first?.smd !== undefined ? smdBin(Math.abs(first.smd)) : null;
+        const bin =
+          first?.smd !== null &&
+          first?.smd !== undefined &&
+          first.halfWidth !== null &&
+          first.halfWidth !== undefined
+            ? chanceBin(Math.abs(first.smd), first.halfWidth)
+            : null;
         return (
           <td
             key={c.key}

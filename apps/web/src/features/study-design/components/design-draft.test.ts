@@ -77,7 +77,7 @@ const study: StudyDetail = {
     algorithm: 'pb',
     algorithmVersion: '1',
   },
-  alertRules: { smdThreshold: 0.1, varianceRatio: [0.5, 2], chanceAware: true, minPerArmForSiteAlerts: 10 },
+  alertRules: { smdThreshold: 0.1, varianceRatio: [0.5, 2], chanceAware: true, minPerArmForSiteAlerts: 10, siteRules: ['smd_beyond_chance'] },
   strataPlan: null,
   myRole: 'statistician',
   permissions: ['study.design'],
