@@ -42,13 +42,14 @@ export async function appendAudit(tx: EntityManager, actor: AuditActor, entries:
     throw new AppError('internal', 'Audit entries must be written inside the transaction of their change');
   }
   await tx.query('SELECT pg_advisory_xact_lock($1)', [CHAIN_LOCK_KEY]);
-  const head: { prev: string | null; at: string }[] = await tx.query(
-    `SELECT (SELECT hash FROM audit_event ORDER BY seq DESC LIMIT 1) AS prev, ${occurredAtSql('clock_timestamp()')} AS at`,
-  );
-  const seqs: { seq: string }[] = await tx.query(
-    `SELECT nextval(pg_get_serial_sequence('audit_event', 'seq'))::text AS seq FROM generate_series(1, $1)`,
+  // After the lock (its own statement, so this one's snapshot sees every committed entry): the
+  // chain head, the time and the sequence numbers in one round trip.
+  const head: { prev: string | null; at: string; seqs: string[] }[] = await tx.query(
+    `SELECT (SELECT hash FROM audit_event ORDER BY seq DESC LIMIT 1) AS prev, ${occurredAtSql('clock_timestamp()')} AS at,
+            ARRAY(SELECT nextval(pg_get_serial_sequence('audit_event', 'seq'))::text FROM generate_series(1, $1)) AS seqs`,
     [entries.length],
   );
+  const seqs = head[0]!.seqs.map((seq) => ({ seq }));
   let prevHash = head[0]?.prev ?? GENESIS_HASH;
   const occurredAt = head[0]!.at;
   const rows: HashedAuditContent[] = [];
