@@ -7,6 +7,7 @@ import { AppError, notFound } from '../../http/app-error.js';
 import { body, params } from '../../http/validate.js';
 import { appendAudit } from '../audit/audit.service.js';
 import { issueToken } from '../auth/one-time-token.js';
+import { forgetSessions } from '../auth/session.js';
 import { readOutbox } from '../../mail/fake-smtp.js';
 import { requireGlobal, roleLabel, type Actor } from '../policy/policy.js';
 import type { EntityManager } from 'typeorm';
@@ -142,6 +143,7 @@ export function adminRoutes(ctx: AppContext): Router {
         { action: 'user.roles_changed', entityType: 'user', entityId: userId, before, after, reason: input.reason },
       ]);
     });
+    forgetSessions();
     res.json({ user: (await usersWithMemberships(ctx.ds, userId))[0] });
   });
 

@@ -12,7 +12,7 @@ import { body } from '../../http/validate.js';
 import { appendAudit } from '../audit/audit.service.js';
 import { requireActor, type Actor } from '../policy/policy.js';
 import { acceptInvite, confirmPasswordReset, requestPasswordReset, signIn } from './auth.service.js';
-import { SESSION_COOKIE, cookieOptions } from './session.js';
+import { SESSION_COOKIE, cookieOptions, forgetSessions } from './session.js';
 
 export function toMe(actor: Actor): Me {
   const roles = new Set<Me['roles'][number]>(actor.memberships.map((m) => m.role));
@@ -69,6 +69,7 @@ export function authRoutes(ctx: AppContext): Router {
         { action: 'auth.sign_out', entityType: 'user', entityId: actor.userId, after: { sessionId: actor.sessionId } },
       ]);
     });
+    forgetSessions();
     res.clearCookie(SESSION_COOKIE, cookieOptions(ctx));
     res.status(204).end();
   });

@@ -5,7 +5,7 @@ import { inTransaction } from '../../db/transaction.js';
 import { AppError } from '../../http/app-error.js';
 import { appendAudit, type AuditActor } from '../audit/audit.service.js';
 import { consumeToken, issueToken } from './one-time-token.js';
-import { openSession } from './session.js';
+import { forgetSessions, openSession } from './session.js';
 
 const GENERIC_FAILURE = 'The e-mail address or password is not correct';
 // Compared against when the account does not exist, so both paths cost one bcrypt check.
@@ -109,6 +109,7 @@ export async function confirmPasswordReset(ctx: AppContext, req: Request, token:
       { action: 'auth.password_reset', entityType: 'user', entityId: userId },
     ]);
   });
+  forgetSessions();
 }
 
 export async function acceptInvite(ctx: AppContext, req: Request, token: string, displayName: string, password: string) {

@@ -56,6 +56,20 @@ type SessionRow = {
   memberships: { studyId: string; studyCode: string; role: SessionMembership['role']; siteIds: string[] }[];
 };
 
+/*
+ * A session read from the database is reused by this process for up to SESSION_CACHE_MS, so a
+ * dashboard that polls does not pay a lookup on every request. Sessions this process ends are
+ * forgotten at once (forgetSessions); an end made by another API process (sign-out, password
+ * reset, role change) takes effect there within that time.
+ */
+const SESSION_CACHE_MS = 2000;
+const sessionCache = new Map<string, { actor: Actor; until: number }>();
+
+/** Called after any change that ends sessions, so this process never serves a revoked one. */
+export function forgetSessions(): void {
+  sessionCache.clear();
+}
+
 /**
  * Reads the session cookie, if any, and attaches the actor. An invalid, expired, forged or
  * revoked token is treated as no session; routes that need one answer 401.
@@ -64,6 +78,12 @@ export function sessionMiddleware(ctx: AppContext): RequestHandler {
   return async (req, _res, next) => {
     const token: unknown = req.cookies?.[SESSION_COOKIE];
     if (typeof token !== 'string' || token.length === 0) return next();
+    const now = Date.now();
+    const hit = sessionCache.get(token);
+    if (hit && hit.until > now && hit.actor.sessionExpiresAt.getTime() > now) {
+      req.actor = hit.actor;
+      return next();
+    }
     let sid: string;
     let sub: string;
     try {
@@ -96,6 +116,8 @@ export function sessionMiddleware(ctx: AppContext): RequestHandler {
         memberships: row.memberships,
       };
       req.actor = actor;
+      if (sessionCache.size > 10_000) sessionCache.clear();
+      sessionCache.set(token, { actor, until: now + SESSION_CACHE_MS });
     }
     next();
   };
