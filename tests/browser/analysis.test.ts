@@ -1,6 +1,6 @@
-import type { Browser, BrowserContext, Page } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { launchBrowser, screenshot } from './support/browser.js';
+import { launchBrowser, screenshot, signInPage as signIn } from './support/browser.js';
 
 /*
  * The statistician's Analysis tab on the seeded demo trial (KESTREL): a draft specification and
@@ -12,16 +12,6 @@ const BASE_URL = (process.env.E2E_BASE_URL ?? 'http://127.0.0.1:5490').replace(/
 const PASSWORD = process.env.DEMO_PASSWORD ?? 'balance-demo-2026';
 const STATISTICIAN = 'statistician@counterpoise.example';
 const CAUTION = "Results support, and do not replace, the judgement of the study's statistician";
-
-async function signIn(context: BrowserContext, email: string): Promise<Page> {
-  const page = await context.newPage();
-  await page.goto(`${BASE_URL}/sign-in`);
-  await page.getByLabel('E-mail').fill(email);
-  await page.getByLabel('Password').fill(PASSWORD);
-  await page.getByRole('button', { name: /sign in/i }).click();
-  await page.waitForURL(/\/studies/);
-  return page;
-}
 
 describe('analysis tab of the demo trial', () => {
   let browser: Browser;
@@ -38,15 +28,23 @@ describe('analysis tab of the demo trial', () => {
     const context = await browser.newContext({ viewport: { width: 1360, height: 900 } });
     const page = await signIn(context, STATISTICIAN);
     await page.goto(`${BASE_URL}/studies`);
-    await page.getByRole('link', { name: /KESTREL/ }).filter({ visible: true }).first().click();
+    await page
+      .getByRole('link', { name: /KESTREL/ })
+      .filter({ visible: true })
+      .first()
+      .click();
     await page.waitForURL(/\/studies\/[0-9a-f-]{36}$/);
     await page.getByRole('link', { name: 'Analysis', exact: true }).click();
     await page.waitForURL(/\/analysis$/);
 
     const workspace = page.getByTestId('analysis-workspace');
-    await expect.poll(() => workspace.getByTestId('statistician-caution').first().textContent()).toContain(CAUTION);
+    await expect
+      .poll(() => workspace.getByTestId('statistician-caution').first().textContent())
+      .toContain(CAUTION);
     await expect.poll(() => page.getByTestId('spec-editor').textContent()).toContain('Version 1 · draft');
-    expect(await page.getByTestId('outcome-completeness').textContent()).toMatch(/recorded for \d+ of \d+ participants/);
+    expect(await page.getByTestId('outcome-completeness').textContent()).toMatch(
+      /recorded for \d+ of \d+ participants/,
+    );
     await screenshot(page, 'analysis-1-draft-specification');
 
     // Sign: a wrong password is refused and shown next to the field; nothing is locked.
@@ -61,7 +59,9 @@ describe('analysis tab of the demo trial', () => {
     await dialog.getByRole('button', { name: 'Sign and lock' }).click();
     const signature = page.getByTestId('signature');
     await expect.poll(() => signature.textContent()).toContain('I approve this pre-specified analysis');
-    expect(await signature.textContent()).toMatch(/Signed by Priya Halvorsen .* at \d{4}-\d{2}-\d{2} \d{2}:\d{2}:\d{2} UTC/);
+    expect(await signature.textContent()).toMatch(
+      /Signed by Priya Halvorsen .* at \d{4}-\d{2}-\d{2} \d{2}:\d{2}:\d{2} UTC/,
+    );
     await expect.poll(() => page.getByTestId('spec-editor').textContent()).toContain('Version 1 · locked');
 
     // Run the primary analysis.
@@ -72,7 +72,10 @@ describe('analysis tab of the demo trial', () => {
     expect(await page.getByTestId('anova-table').textContent()).toContain('Error (within arms)');
     expect(await page.getByTestId('adjusted-means-table').textContent()).toMatch(/HBW.*UC/s);
     expect(await page.getByTestId('adjusted-difference').first().textContent()).toMatch(/HBW minus UC/);
-    const alt = await page.getByTestId('adjusted-means-chart').locator('svg[role="img"]').getAttribute('aria-label');
+    const alt = await page
+      .getByTestId('adjusted-means-chart')
+      .locator('svg[role="img"]')
+      .getAttribute('aria-label');
     expect(alt).toMatch(/Adjusted means of .* HBW .* UC/);
     expect(await page.getByTestId('assumption-checks').locator('[data-check]').count()).toBe(6);
     expect(await page.getByTestId('assumption-checks').textContent()).toContain('common practice');

@@ -1,7 +1,7 @@
 import { stat } from 'node:fs/promises';
-import type { Browser, BrowserContext, Page } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { launchBrowser, screenshot } from './support/browser.js';
+import { launchBrowser, screenshot, signInPage as signIn } from './support/browser.js';
 
 /*
  * The statistician's balance dashboard on the seeded demo trial (KESTREL): balanced overall,
@@ -9,20 +9,9 @@ import { launchBrowser, screenshot } from './support/browser.js';
  * scripts/test.sh (or any running stack at E2E_BASE_URL).
  */
 const BASE_URL = (process.env.E2E_BASE_URL ?? 'http://127.0.0.1:5490').replace(/\/$/, '');
-const PASSWORD = process.env.DEMO_PASSWORD ?? 'balance-demo-2026';
 const STATISTICIAN = 'statistician@counterpoise.example';
 const SPONSOR = 'sponsor@counterpoise.example';
 const CAUTION = "Results support, and do not replace, the judgement of the study's statistician";
-
-async function signIn(context: BrowserContext, email: string): Promise<Page> {
-  const page = await context.newPage();
-  await page.goto(`${BASE_URL}/sign-in`);
-  await page.getByLabel('E-mail').fill(email);
-  await page.getByLabel('Password').fill(PASSWORD);
-  await page.getByRole('button', { name: /sign in/i }).click();
-  await page.waitForURL(/\/studies/);
-  return page;
-}
 
 async function openKestrel(page: Page): Promise<void> {
   await page.goto(`${BASE_URL}/studies`);

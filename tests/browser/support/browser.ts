@@ -1,7 +1,7 @@
 import { mkdir } from 'node:fs/promises';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
 
 /** Debian's chromium, never a downloaded browser. */
 export const CHROMIUM_PATH = '/usr/bin/chromium';
@@ -55,4 +55,19 @@ export async function screenshot(page: Page, name: string): Promise<string> {
   const file = path.join(SCREENSHOT_DIR, `${safe}.png`);
   await page.screenshot({ path: file, fullPage: true });
   return file;
+}
+
+/** A new page in `context`, signed in through the real form as `email` (demo password by default). */
+export async function signInPage(
+  context: BrowserContext,
+  email: string,
+  password = demoPassword(),
+): Promise<Page> {
+  const page = await context.newPage();
+  await page.goto(appUrl('/sign-in'));
+  await page.getByLabel('E-mail').fill(email);
+  await page.getByLabel('Password').fill(password);
+  await page.getByRole('button', { name: /sign in/i }).click();
+  await page.waitForURL(/\/studies/);
+  return page;
 }

@@ -25,7 +25,7 @@ const issuePaths = (input: unknown) => {
 describe('designBodySchema', () => {
   it('accepts a valid design and fills defaults', () => {
     const d = designBodySchema.parse(base);
-    expect(d.alertRules).toEqual({ smdThreshold: 0.1, varianceRatio: [0.5, 2], chanceAware: true, minPerArmForSiteAlerts: 10 });
+    expect(d.alertRules).toEqual({ smdThreshold: 0.1, varianceRatio: [0.5, 2], chanceAware: true, minPerArmForSiteAlerts: 10, siteRules: ['smd_beyond_chance'] });
     expect(d.covariates[0]).toMatchObject({ required: true, windowDaysBefore: 30, windowDaysAfter: 0, decimals: 0 });
   });
 

@@ -7,14 +7,14 @@ import type { RunResult } from '@counterpoise/contracts/analysis';
 import { armStyle, axisTickLabel, chartColors } from './chart-theme.js';
 import { num, percent } from './format.js';
 import { Marker } from './marker.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 const ROW = 44;
 const M = { top: 12, right: 24, bottom: 40, left: 150 };
 
 /** Adjusted means with their confidence intervals; the raw mean is the hollow marker. */
 export function AdjustedMeansChart({ result }: { result: RunResult }) {
-  const { ref, width } = useElementWidth<HTMLDivElement>();
+  const { ref, width } = useElementWidth<HTMLDivElement>(560);
   const rows = result.adjustedMeans;
   const innerW = Math.max(200, width - M.left - M.right);
   const innerH = rows.length * ROW;

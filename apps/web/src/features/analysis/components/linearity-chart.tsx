@@ -6,7 +6,7 @@ import type { RunResult } from '@counterpoise/contracts/analysis';
 import { armStyle, axisTickLabel, chartColors } from './chart-theme.js';
 import { num } from './format.js';
 import { ArmLegend, Marker } from './marker.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 const M = { top: 12, right: 20, bottom: 46, left: 60 };
 const H = 340;
@@ -23,7 +23,7 @@ export function LinearityChart({
   linearity: NonNullable<RunResult['linearity']>;
   outcome: RunResult['spec']['outcome'];
 }) {
-  const { ref, width } = useElementWidth<HTMLDivElement>();
+  const { ref, width } = useElementWidth<HTMLDivElement>(560);
   const all = linearity.groups.flatMap((g) => g.points);
   const innerW = Math.max(200, width - M.left - M.right);
   const innerH = H - M.top - M.bottom;

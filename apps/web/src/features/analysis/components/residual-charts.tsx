@@ -5,7 +5,7 @@ import { Bar, Line } from '@visx/shape';
 import type { RunResult } from '@counterpoise/contracts/analysis';
 import { axisTickLabel, chartColors } from './chart-theme.js';
 import { num, pValue } from './format.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 const M = { top: 12, right: 16, bottom: 44, left: 52 };
 const H = 240;

@@ -8,7 +8,7 @@ import { Area, Line, LinePath } from '@visx/shape';
 import { SelectField } from '../../../components/ui/field.js';
 import { axisTickLabel, chartColors } from './chart-theme.js';
 import { comparisonLabel, formatBand, formatNumber, formatSmd } from './format.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 const HEIGHT = 280;
 const MARGIN = { top: 16, right: 24, bottom: 44, left: 56 };

@@ -4,7 +4,7 @@ import { Group } from '@visx/group';
 import { scaleBand, scaleLinear } from '@visx/scale';
 import { Bar, Line } from '@visx/shape';
 import { axisTickLabel, chartColors } from './chart-theme.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 type Site = BalancePooledView['sites'][number];
 

@@ -4,7 +4,7 @@ import { scaleLinear } from '@visx/scale';
 import { Bar, Line } from '@visx/shape';
 import { axisTickLabel, chartColors } from './chart-theme.js';
 import { formatNumber } from './format.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 export type HistogramGroup = { label: string; bins: Array<{ from: number; to: number; count: number }> };
 

@@ -8,7 +8,7 @@ import { TooltipWithBounds, useTooltip } from '@visx/tooltip';
 import { axisTickLabel, chartColors } from './chart-theme.js';
 import { formatBand, formatNumber, formatSmd } from './format.js';
 import type { SmdRow } from './smd-rows.js';
-import { useElementWidth } from './use-width.js';
+import { useElementWidth } from '../../../lib/use-element-width.js';
 
 const ROW = 30;
 const MARGIN = { top: 30, right: 70, bottom: 40, left: 190 };
