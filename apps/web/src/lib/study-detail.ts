@@ -2,19 +2,11 @@ import { z } from 'zod';
 import { allocationSchemeDtoSchema, studyDetailSchema } from '@counterpoise/contracts/design';
 
 /*
- * The study as the web reads it. Site staff get the allocation method only: block sizes,
- * factors and seeds stay concealed from them (ICH E9 2.3.1), so `allocation` is either the
- * full stored scheme or `{ method }`.
+ * The study as the web reads it (the shared contract). Site staff get the allocation method
+ * only: block sizes, factors and seeds stay concealed from them (ICH E9 2.3.1), so
+ * `allocation` is either the full stored scheme or `{ method, concealed: true }`.
  */
-export const concealedAllocationSchema = z.object({
-  method: z.enum(['permuted_blocks', 'minimization', 'exposure_recorded']),
-  concealed: z.literal(true).default(true),
-});
-
-export const studyDetailViewSchema = studyDetailSchema.extend({
-  allocation: z.union([allocationSchemeDtoSchema, concealedAllocationSchema]).nullable(),
-});
-export type StudyDetail = z.output<typeof studyDetailViewSchema>;
+export type StudyDetail = z.output<typeof studyDetailSchema>;
 export type FullAllocation = z.output<typeof allocationSchemeDtoSchema>;
 
 /** The full scheme, or null when it is concealed from the reader or not set. */
@@ -24,4 +16,4 @@ export function fullAllocation(study: Pick<StudyDetail, 'allocation'>): FullAllo
   return a;
 }
 
-export const studyDetailResponseSchema = z.object({ study: studyDetailViewSchema });
+export const studyDetailResponseSchema = z.object({ study: studyDetailSchema });
