@@ -25,14 +25,16 @@ type Condition = {
   comparison: ArmComparison;
 };
 
-const conditionKey = (rule: string, cov: string, site: string | null, arm: string) => `${rule}|${cov}|${site ?? 'overall'}|${arm}`;
+const conditionKey = (rule: string, cov: string, site: string | null, arm: string) =>
+  `${rule}|${cov}|${site ?? 'overall'}|${arm}`;
 
 /** Which rules hold for one comparison; null when it cannot be judged (no SMD, too small a site). */
 function holding(rules: BalanceRules, c: ArmComparison): Map<AlertRule, boolean> {
   const out = new Map<AlertRule, boolean>();
   if (c.smd !== null) out.set('smd_threshold', c.flags.smdOverThreshold);
   if (c.varianceRatio !== null) out.set('variance_ratio', c.flags.varianceRatioOutside);
-  if (c.smd !== null && c.chanceBand !== null) out.set('smd_beyond_chance', rules.chanceAware && c.flags.beyondChance);
+  if (c.smd !== null && c.chanceBand !== null)
+    out.set('smd_beyond_chance', rules.chanceAware && c.flags.beyondChance);
   return out;
 }
 
@@ -55,7 +57,14 @@ function considerWeighted(
       const comparison: ArmComparison = { ...c, smd, varianceRatio: vr, chanceBand: null };
       const add = (rule: AlertRule, holds: boolean) =>
         evaluated.set(conditionKey(rule, cov.key, null, c.armId), {
-          condition: { rule, covariateKey: cov.key, siteId: null, armId: c.armId, referenceArmId: c.referenceArmId, comparison },
+          condition: {
+            rule,
+            covariateKey: cov.key,
+            siteId: null,
+            armId: c.armId,
+            referenceArmId: c.referenceArmId,
+            comparison,
+          },
           holds,
         });
       if (smd !== null) add('smd_threshold', Math.abs(smd) > rules.smdThreshold);
@@ -96,7 +105,14 @@ export async function evaluateAlerts(
       for (const c of cov.balance.comparisons) {
         for (const [rule, holds] of holding(rules, c)) {
           evaluated.set(conditionKey(rule, cov.key, siteId, c.armId), {
-            condition: { rule, covariateKey: cov.key, siteId, armId: c.armId, referenceArmId: c.referenceArmId, comparison: c },
+            condition: {
+              rule,
+              covariateKey: cov.key,
+              siteId,
+              armId: c.armId,
+              referenceArmId: c.referenceArmId,
+              comparison: c,
+            },
             holds,
           });
         }
@@ -113,7 +129,8 @@ export async function evaluateAlerts(
     for (const [siteId, detail] of sites) {
       if (!detail.site?.judgeable) continue;
       consider(siteId, detail.covariates);
-      for (const [key, e] of evaluated) if (e.condition.siteId === siteId && !siteRules.has(e.condition.rule)) evaluated.delete(key);
+      for (const [key, e] of evaluated)
+        if (e.condition.siteId === siteId && !siteRules.has(e.condition.rule)) evaluated.delete(key);
     }
   }
 
@@ -139,7 +156,14 @@ export async function evaluateAlerts(
   const scopeKey = (cov: string, site: string | null, arm: string) => `${cov}|${site ?? 'overall'}|${arm}`;
   const liveScopes = new Set(live.map((a) => scopeKey(a.covariate_key, a.site_id, a.arm_id)));
   const notify: string[] = [];
-  const stillHolding: { id: string; smd: number | null; vr: number | null; hw: number | null; na: number; nr: number }[] = [];
+  const stillHolding: {
+    id: string;
+    smd: number | null;
+    vr: number | null;
+    hw: number | null;
+    na: number;
+    nr: number;
+  }[] = [];
   const changes: AlertChanges = { opened: [], cleared: [], updated: 0 };
   const audit: AuditEntry[] = [];
   const figures = (c: ArmComparison) => ({
@@ -162,8 +186,19 @@ export async function evaluateAlerts(
          VALUES ($1, $2, $3, $4, $5, $6, $7, 'open', $8, $9, $10, $11, $12, $13, $14)
          ON CONFLICT (idempotency_key) DO NOTHING RETURNING id`,
         [
-          config.id, cd.rule, cd.covariateKey, cd.siteId, cd.armId, cd.referenceArmId, opening, snapshotId,
-          c.smd, c.varianceRatio, c.chanceBand?.halfWidth ?? null, c.nArm, c.nReference,
+          config.id,
+          cd.rule,
+          cd.covariateKey,
+          cd.siteId,
+          cd.armId,
+          cd.referenceArmId,
+          opening,
+          snapshotId,
+          c.smd,
+          c.varianceRatio,
+          c.chanceBand?.halfWidth ?? null,
+          c.nArm,
+          c.nReference,
           `${config.id}|${key}|${opening}`,
         ],
       );
@@ -176,11 +211,25 @@ export async function evaluateAlerts(
         entityId: created.id,
         studyId: config.id,
         siteId: cd.siteId,
-        after: { rule: cd.rule, covariate: cd.covariateKey, armId: cd.armId, referenceArmId: cd.referenceArmId, opening, ...figures(c) },
+        after: {
+          rule: cd.rule,
+          covariate: cd.covariateKey,
+          armId: cd.armId,
+          referenceArmId: cd.referenceArmId,
+          opening,
+          ...figures(c),
+        },
         revealsAllocation: true,
       });
     } else if (existing && holds) {
-      stillHolding.push({ id: existing.id, smd: c.smd, vr: c.varianceRatio, hw: c.chanceBand?.halfWidth ?? null, na: c.nArm, nr: c.nReference });
+      stillHolding.push({
+        id: existing.id,
+        smd: c.smd,
+        vr: c.varianceRatio,
+        hw: c.chanceBand?.halfWidth ?? null,
+        na: c.nArm,
+        nr: c.nReference,
+      });
       changes.updated++;
     } else if (existing && !holds) {
       await clearAlert(tx, existing, figures(c), audit, config.id);
@@ -226,7 +275,10 @@ async function clearAlert(
   audit: AuditEntry[],
   studyId: string,
 ): Promise<void> {
-  await tx.query(`UPDATE alert SET state = 'cleared', cleared_at = now(), last_evaluated_at = now() WHERE id = $1`, [a.id]);
+  await tx.query(
+    `UPDATE alert SET state = 'cleared', cleared_at = now(), last_evaluated_at = now() WHERE id = $1`,
+    [a.id],
+  );
   audit.push({
     action: 'balance.alert_cleared',
     entityType: 'alert',
@@ -265,7 +317,11 @@ type PendingNotification = {
 };
 
 /** The text of one alert e-mail (to an unblinded statistician, so arms may be named). */
-export function alertMailText(config: StudyConfig, items: PendingNotification[], appOrigin: string): { subject: string; text: string } {
+export function alertMailText(
+  config: StudyConfig,
+  items: PendingNotification[],
+  appOrigin: string,
+): { subject: string; text: string } {
   const arm = (id: string) => config.arms.find((a) => a.id === id);
   const site = (id: string | null) => (id ? config.sites.find((s) => s.id === id) : undefined);
   const cov = (k: string) => config.covariates.find((c) => c.key === k);
@@ -277,7 +333,12 @@ export function alertMailText(config: StudyConfig, items: PendingNotification[],
   for (const it of items) {
     const s = site(it.site_id);
     const where = s ? `site ${s.code} (${s.name})` : 'all sites';
-    const crossings = chanceCrossings(config.covariates.length, it.last_n_arm, it.last_n_reference, threshold);
+    const crossings = chanceCrossings(
+      config.covariates.length,
+      it.last_n_arm,
+      it.last_n_reference,
+      threshold,
+    );
     lines.push(
       `- ${cov(it.covariate_key)?.label ?? it.covariate_key} [${it.covariate_key}], ${where}: ${RULE_TEXT[it.rule]}.`,
       `  ${arm(it.arm_id)?.code ?? it.arm_id} vs ${arm(it.reference_arm_id)?.code ?? it.reference_arm_id} (n = ${it.last_n_arm} vs ${it.last_n_reference}): ` +
@@ -288,12 +349,30 @@ export function alertMailText(config: StudyConfig, items: PendingNotification[],
         ? `  At these group sizes chance alone gives on average ${crossings.expected.toFixed(1)} of ${config.covariates.length} covariates with |SMD| > ${threshold}.`
         : '  Too few participants for a chance estimate.',
     );
+    // For the chance-aware rule the telling figure is how many covariates chance alone puts
+    // beyond the band itself (1 - level of them, by the band's construction).
+    const band =
+      it.rule === 'smd_beyond_chance' && it.last_half_width
+        ? chanceCrossings(config.covariates.length, it.last_n_arm, it.last_n_reference, it.last_half_width)
+        : null;
+    if (band) {
+      lines.push(
+        `  Beyond the 95% chance band itself, chance alone gives on average ${band.expected.toFixed(1)} of ${config.covariates.length} covariates.`,
+      );
+    }
   }
   lines.push('', `Open the balance dashboard: ${appOrigin}/studies/${config.id}/balance`, '');
   if (config.kind === 'randomized_trial') lines.push(balanceCautions.randomizedImbalance);
   else lines.push(balanceCautions.weighting);
-  lines.push(balanceCautions.judgement, '', 'You receive this because you are a statistician of the study. Nothing more is sent for these alerts until they clear and return.');
-  return { subject: `[Counterpoise] ${config.code}: baseline balance alert${items.length === 1 ? '' : 's'} (${items.length})`, text: lines.join('\n') };
+  lines.push(
+    balanceCautions.judgement,
+    '',
+    'You receive this because you are a statistician of the study. Nothing more is sent for these alerts until they clear and return.',
+  );
+  return {
+    subject: `[Counterpoise] ${config.code}: baseline balance alert${items.length === 1 ? '' : 's'} (${items.length})`,
+    text: lines.join('\n'),
+  };
 }
 
 /**
@@ -302,7 +381,12 @@ export function alertMailText(config: StudyConfig, items: PendingNotification[],
  * and the retry sends only what is still unsent. (A crash between the SMTP server accepting a
  * message and the row being marked can still repeat that one message: at-least-once.)
  */
-export async function sendPendingNotifications(ctx: AppContext, db: Queryable, config: StudyConfig, log?: Logger): Promise<number> {
+export async function sendPendingNotifications(
+  ctx: AppContext,
+  db: Queryable,
+  config: StudyConfig,
+  log?: Logger,
+): Promise<number> {
   const pending = await rows<PendingNotification>(
     db,
     `SELECT n.id, n.recipient_email, n.recipient_user_id, a.rule, a.covariate_key, a.site_id, a.arm_id, a.reference_arm_id,
@@ -313,13 +397,16 @@ export async function sendPendingNotifications(ctx: AppContext, db: Queryable, c
     [config.id],
   );
   const byRecipient = new Map<string, PendingNotification[]>();
-  for (const p of pending) byRecipient.set(p.recipient_email, [...(byRecipient.get(p.recipient_email) ?? []), p]);
+  for (const p of pending)
+    byRecipient.set(p.recipient_email, [...(byRecipient.get(p.recipient_email) ?? []), p]);
   let sent = 0;
   let failed = 0;
   for (const [to, items] of byRecipient) {
     const { subject, text } = alertMailText(config, items, ctx.env.APP_ORIGIN);
     if (await ctx.mailer.send({ to, subject, text })) {
-      await db.query(`UPDATE alert_notification SET sent_at = now() WHERE id = ANY($1::uuid[])`, [items.map((i) => i.id)]);
+      await db.query(`UPDATE alert_notification SET sent_at = now() WHERE id = ANY($1::uuid[])`, [
+        items.map((i) => i.id),
+      ]);
       sent++;
     } else failed++;
   }

@@ -170,6 +170,7 @@ describe('balance drift alerts', () => {
     const t2 = await createTestContext();
     try {
       const s2 = await createBalanceStudy(t2, { sites: ['D1', 'D2'], covariates: COVS });
+      await createUser(t2, { memberships: [{ studyId: s2.id, role: 'statistician' }] });
       // D1: a modest age gap (SMD about 0.3, over 0.1 but inside the chance band of 20 per arm);
       // D2: a large one (SMD above 1, beyond the band).
       const rows: Enrollee[] = [];
@@ -181,6 +182,10 @@ describe('balance drift alerts', () => {
         [s2.id],
       );
       expect(alerts).toEqual([{ rule: 'smd_beyond_chance', site_id: s2.siteIds[1] }]);
+      // The e-mail also says how many covariates chance alone puts beyond the band (5% of 3).
+      const mails = await t2.smtp.list();
+      expect(mails).toHaveLength(1);
+      expect(mails[0]!.text).toMatch(/Beyond the 95% chance band itself, chance alone gives on average 0\.2 of 3 covariates/);
     } finally {
       await t2.close();
     }
