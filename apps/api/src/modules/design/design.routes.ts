@@ -2,6 +2,7 @@ import { designBodySchema, studyCreateBodySchema } from '@counterpoise/contracts
 import { Router } from 'express';
 import type { AppContext } from '../../app-context.js';
 import { body, params } from '../../http/validate.js';
+import { forgetSessions } from '../auth/session.js';
 import { authorize, requireGlobal, roleLabel, studyAccess } from '../policy/policy.js';
 import { studyParams } from '../studies/studies.routes.js';
 import { createStudy, saveDesign, studyDetail } from './design.service.js';
@@ -18,6 +19,9 @@ export function designRoutes(ctx: AppContext): Router {
       { userId: actor.userId, email: actor.email, role: roleLabel(actor), requestId: req.requestId, isAdmin: actor.isAdmin },
       input,
     );
+    // The creator now holds a new membership: sessions this process keeps for a moment must be
+    // read again, or their next request (the new study's Design tab) would answer 404.
+    if (!actor.isAdmin) forgetSessions();
     // The creator's new membership is not in this request's session yet.
     const withMembership = actor.isAdmin
       ? actor

@@ -22,6 +22,22 @@ describe('POST /studies', () => {
     expect(dup.status).toBe(409);
   });
 
+  it('when a statistician creates a study, then their very next requests already see it and its design (no stale session)', async () => {
+    // Warm the session this process keeps for a moment, as a page that has just listed the studies would.
+    expect((await c.statistician.get('/api/me')).status).toBe(200);
+    const res = await c.statistician.post('/api/studies').send({ code: 'FRESHLY', title: 'Seen at once', kind: 'randomized_trial', blinding: 'open_label', targetSampleSize: 400 });
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    const id: string = res.body.study.id;
+    const detail = await c.statistician.get(`/api/studies/${id}`);
+    expect(detail.status, JSON.stringify(detail.body)).toBe(200);
+    const me = await c.statistician.get('/api/me');
+    expect(me.body.memberships).toContainEqual(expect.objectContaining({ studyId: id, studyCode: 'FRESHLY', role: 'statistician' }));
+    const list = await c.statistician.get('/api/studies');
+    expect(list.body.studies.map((s: { code: string }) => s.code)).toContain('FRESHLY');
+    const design = await c.statistician.put(`/api/studies/${id}/design`).send(trialDesign());
+    expect(design.status, JSON.stringify(design.body)).toBe(200);
+  });
+
   it('when a coordinator, sponsor or auditor tries to create a study, then 403 and nothing is written', async () => {
     const before = await counts(t);
     for (const who of [c.coordinator, c.sponsor, c.auditor]) {
