@@ -6,6 +6,7 @@ import { AdminUsersRoute } from './routes/admin/users.js';
 import { AppShell } from './routes/app-shell.js';
 import { AuditRoute } from './routes/audit.js';
 import { ForgotPasswordRoute } from './routes/forgot-password.js';
+import { NewStudyRoute } from './routes/new-study.js';
 import { NotFoundRoute } from './routes/not-found.js';
 import { ResetPasswordRoute } from './routes/reset-password.js';
 import { RouteErrorBoundary } from './routes/route-error.js';
@@ -41,6 +42,7 @@ export const router = createBrowserRouter([
         children: [
           { index: true, element: <Navigate to={paths.studies.list.href()} replace /> },
           { path: paths.studies.list.path, element: <StudiesRoute /> },
+          { path: paths.studies.create.path, element: <NewStudyRoute /> },
           {
             path: paths.studies.study.path,
             element: <StudyLayout />,

@@ -14,6 +14,7 @@ export const paths = {
   },
   studies: {
     list: { path: '/studies', href: () => '/studies' },
+    create: { path: '/studies/new', href: () => '/studies/new' },
     study: {
       path: '/studies/:studyId',
       href: (studyId: string) => `/studies/${encodeURIComponent(studyId)}`,

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { Me } from '@counterpoise/contracts/auth';
-import { studyTabsFor, topNavFor } from './authorization.js';
+import { canCreateStudy, studyTabsFor, topNavFor } from './authorization.js';
 
 const studyA = '11111111-1111-4111-8111-111111111111';
 const studyB = '22222222-2222-4222-8222-222222222222';
@@ -58,5 +58,26 @@ describe('studyTabsFor', () => {
 
   it('when the role is held in another study only, then nothing is offered here', () => {
     expect(studyTabsFor(me({ memberships: [membership(studyB, 'statistician')] }), studyA)).toEqual([]);
+  });
+});
+
+// Mirrors the API's policy `study.create` (apps/api/src/modules/policy/policy.ts).
+describe('canCreateStudy', () => {
+  const member = (role: 'coordinator' | 'statistician' | 'sponsor' | 'auditor') => ({
+    studyId: studyA,
+    studyCode: 'X',
+    role,
+    siteIds: [],
+  });
+
+  it.each([
+    ['an administrator without memberships', me({ isAdmin: true }), true],
+    ['the statistician of one study', me({ memberships: [member('sponsor'), member('statistician')] }), true],
+    ['a site coordinator', me({ memberships: [member('coordinator')] }), false],
+    ['a sponsor', me({ memberships: [member('sponsor')] }), false],
+    ['an auditor', me({ memberships: [member('auditor')] }), false],
+    ['a user with no study', me({}), false],
+  ] as const)('when the user is %s, then creating a study is offered: %s', (_n, user, expected) => {
+    expect(canCreateStudy(user)).toBe(expected);
   });
 });

@@ -28,6 +28,11 @@ export function topNavFor(me: Pick<Me, 'isAdmin' | 'roles'>): TopNavItem[] {
   return topNavOrder.filter((item) => topNavRoles[item].some((role) => roles.includes(role)));
 }
 
+/** Creating a study: administrators, and users who are the statistician of some study (policy `study.create`). */
+export function canCreateStudy(me: Pick<Me, 'isAdmin' | 'memberships'>): boolean {
+  return me.isAdmin || me.memberships.some((m) => m.role === 'statistician');
+}
+
 export type StudyTab = 'overview' | 'participants' | 'balance' | 'alerts' | 'analysis' | 'design' | 'audit';
 
 export const studyTabOrder: readonly StudyTab[] = [

@@ -1,19 +1,33 @@
 import { Link } from 'react-router-dom';
 import type { StudySummary } from '@counterpoise/contracts/studies';
 import { paths } from '../../../config/paths.js';
+import { ButtonLink } from '../../../components/ui/button.js';
 import { EmptyState, ErrorState, LoadingState } from '../../../components/ui/states.js';
 import { ProgressMeter } from '../../../components/ui/progress-meter.js';
 import { Table, TBody, TD, TH, THead, TR } from '../../../components/ui/table.js';
 import { useStudies } from '../api/get-studies.js';
 import { BlindingBadge, describeRole, KindBadge, StatusBadge } from './study-labels.js';
 
-export function StudyList() {
+/** `mayCreate`: the user may create studies (lib/authorization canCreateStudy), so the empty state offers it. */
+export function StudyList({ mayCreate = false }: { mayCreate?: boolean }) {
   const studies = useStudies();
 
   if (studies.isPending) return <LoadingState label="Loading your studies…" />;
   if (studies.isError) return <ErrorState error={studies.error} onRetry={() => void studies.refetch()} />;
   if (studies.data.length === 0) {
-    return (
+    return mayCreate ? (
+      <EmptyState
+        title="No studies yet"
+        action={
+          <ButtonLink to={paths.studies.create.href()} variant="primary">
+            New study
+          </ButtonLink>
+        }
+      >
+        Create the first study: give it a code, a title and its kind, then set up arms, sites, covariates and
+        allocation on its Design tab.
+      </EmptyState>
+    ) : (
       <EmptyState title="No studies yet">
         You are not a member of any study. An administrator adds you to a study with a role; it then appears
         here.
