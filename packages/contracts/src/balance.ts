@@ -346,7 +346,19 @@ export const baselineTableSchema = z.object({
     .object({
       caution: z.string(),
       method: z.string(),
-      values: z.array(z.object({ covariateKey: z.string(), armId: z.uuid(), pValue: z.number().nullable(), test: z.string() })),
+      values: z.array(
+        z.object({
+          covariateKey: z.string(),
+          /** The arm compared against the reference arm. */
+          armId: z.uuid(),
+          referenceArmId: z.uuid(),
+          pValue: z.number().nullable(),
+          /** The test used, in plain words ('none' when no p-value). */
+          test: z.string(),
+          /** Why there is no p-value, why the exact test was used, or a doubt about the p-value given (small expected counts). */
+          note: z.string().nullable(),
+        }),
+      ),
     })
     .nullable(),
   cautions: z.array(z.string()),

@@ -68,3 +68,11 @@ export { slopeHomogeneityTest, type SlopeHomogeneityResult } from './slopeHomoge
 export { leveneTest, type LeveneCenter, type LeveneResult } from './leveneTest/leveneTest.js';
 export { sdRatioRule, type SdRatioResult } from './sdRatioRule/sdRatioRule.js';
 export { shapiroWilk, type ShapiroWilkResult } from './shapiroWilk/shapiroWilk.js';
+
+// Contingency tables (baseline p-values for binary and categorical covariates)
+export {
+  chiSquareIndependence,
+  SMALL_EXPECTED_COUNT,
+  type ChiSquareIndependenceResult,
+} from './chiSquareIndependence/chiSquareIndependence.js';
+export { fisherExact2x2, type FisherExactResult } from './fisherExact2x2/fisherExact2x2.js';

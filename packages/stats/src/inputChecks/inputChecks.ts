@@ -145,3 +145,52 @@ export function checkNumber(
   }
   return value;
 }
+
+export type CountTable = {
+  rows: number;
+  columns: number;
+  rowTotals: number[];
+  columnTotals: number[];
+  total: number;
+};
+
+/**
+ * Validates a contingency table of counts: an array of at least 2 rows, each an array of the
+ * same length (at least 2), every entry a non-negative integer, and no row or column summing
+ * to zero (its expected counts would be 0; the caller drops such a level). Returns the margins.
+ */
+export function checkCountTable(fn: string, name: string, table: unknown): CountTable {
+  if (!Array.isArray(table)) throw new TypeError(`${fn}: ${name} must be an array of rows of counts, got ${describe(table)}`);
+  if (table.length < 2) throw new RangeError(`${fn}: ${name} needs at least 2 rows, got ${table.length}`);
+  let columns = -1;
+  const rowTotals: number[] = [];
+  table.forEach((row: unknown, i) => {
+    if (!Array.isArray(row)) throw new TypeError(`${fn}: ${name}[${i}] must be an array of counts, got ${describe(row)}`);
+    if (columns < 0) {
+      columns = row.length;
+      if (columns < 2) throw new RangeError(`${fn}: ${name} needs at least 2 columns, got ${columns}`);
+    } else if (row.length !== columns) {
+      throw new RangeError(`${fn}: ${name}[${i}] has ${row.length} entries but ${name}[0] has ${columns}; rows must have equal length`);
+    }
+    let s = 0;
+    row.forEach((v: unknown, j) => {
+      if (typeof v !== 'number') throw new TypeError(`${fn}: ${name}[${i}][${j}] must be a number, got ${describe(v)}`);
+      if (!Number.isInteger(v) || v < 0) {
+        throw new RangeError(`${fn}: ${name}[${i}][${j}] must be a non-negative integer count, got ${String(v)}`);
+      }
+      s += v;
+    });
+    rowTotals.push(s);
+  });
+  const rows = table as number[][];
+  const columnTotals = Array.from({ length: columns }, (_, j) => rows.reduce((s, r) => s + (r[j] as number), 0));
+  const total = rowTotals.reduce((a, b) => a + b, 0);
+  if (!Number.isSafeInteger(total)) throw new RangeError(`${fn}: ${name} total ${total} is beyond exact integer range`);
+  rowTotals.forEach((t, i) => {
+    if (t === 0) throw new RangeError(`${fn}: ${name}[${i}] sums to 0; drop empty rows before testing (their expected counts are 0)`);
+  });
+  columnTotals.forEach((t, j) => {
+    if (t === 0) throw new RangeError(`${fn}: ${name} column ${j} sums to 0; drop empty columns before testing (their expected counts are 0)`);
+  });
+  return { rows: rows.length, columns, rowTotals, columnTotals, total };
+}

@@ -278,7 +278,11 @@ export function balanceRoutes(ctx: AppContext): Router {
     if (out.pValues) {
       // Kept apart from the table, under its caution.
       tail.push([], ['p-values (labelled)', out.pValues.caution], ['method', out.pValues.method]);
-      for (const p of out.pValues.values) tail.push(['p-value', p.covariateKey, p.armId, p.pValue ?? '', p.test]);
+      const armLabel = (id: string) => out.columns.find((c) => c.column === id)?.label ?? id;
+      tail.push(['p-value', 'covariate', 'arm', 'reference arm', 'p', 'test', 'note']);
+      for (const p of out.pValues.values) {
+        tail.push(['p-value', p.covariateKey, armLabel(p.armId), armLabel(p.referenceArmId), p.pValue ?? '', p.test, p.note ?? '']);
+      }
     }
     res.setHeader('Content-Type', 'text/csv; charset=utf-8');
     res.setHeader('Content-Disposition', 'attachment; filename="counterpoise-baseline-table.csv"');

@@ -6,10 +6,10 @@ import {
   type CovariateSummary,
   type Freshness,
 } from '@counterpoise/contracts/balance';
-import { oneWayAnova } from '@counterpoise/stats';
 import type { DataSource } from 'typeorm';
 import { loadAccumulators } from './balance-accumulators.js';
-import { armSql, codeValue, loadStudyConfig, rows, type Queryable } from './balance-config.js';
+import { armSql, codeValue, loadStudyConfig, rows, type CovariateKind, type Queryable } from './balance-config.js';
+import { continuousPValue, contingencyPValue, PVALUE_METHOD } from './balance-pvalues.js';
 import { buildSnapshot, type SnapshotBody } from './balance-snapshot.js';
 
 /** Queued or running recompute jobs of this study (pg-boss keeps them in its own schema). */
@@ -276,10 +276,13 @@ export function baselineTable(view: BalanceArmsView): Omit<BaselineTable, 'fresh
 }
 
 /**
- * Baseline p-values, only on request and always labelled (DOMAIN.md caution 1). Continuous
- * covariates: one-way ANOVA F test of arm vs reference (equal to the pooled two-sample t test
- * for two groups), from the stats package, on the rows read now. There is no test for binary or
- * categorical data in packages/stats yet, so those are left empty rather than written here.
+ * Baseline p-values, only on request and always labelled (DOMAIN.md caution 1), each arm
+ * against the reference arm, on the rows stored now (see PVALUE_METHOD for the tests).
+ * One statement reads the study's baseline rows: continuous values as one array per (covariate,
+ * arm) (the ANOVA needs the values; an array parses much faster than a row per value), binary
+ * and categorical values already counted per (covariate, arm, raw value), so only a handful of
+ * rows per covariate come back; each count group is decoded with `codeValue`, the same rule the
+ * balance figures use.
  */
 export async function baselinePValues(
   db: Queryable,
@@ -287,42 +290,62 @@ export async function baselinePValues(
   kind: 'randomized_trial' | 'observational_cohort',
   view: BalanceArmsView,
 ): Promise<NonNullable<BaselineTable['pValues']>> {
-  const data = await rows<{ key: string; kind: 'continuous' | 'binary' | 'categorical'; arm_id: string; n: number | null; t: string | null }>(
-    db,
-    `SELECT c.key, c.kind, ${armSql(kind)} AS arm_id, b.value_number AS n, b.value_text AS t
-       FROM participant p LEFT JOIN allocation a ON a.participant_id = p.id
+  const joins = `FROM participant p LEFT JOIN allocation a ON a.participant_id = p.id
        JOIN baseline_value b ON b.participant_id = p.id
-       JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1 AND c.kind = 'continuous'
-      WHERE p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(kind)} IS NOT NULL
-        AND ($2::uuid IS NULL OR p.site_id = $2)`,
+       JOIN covariate_definition c ON c.id = b.covariate_id AND c.study_id = $1`;
+  const counted = `p.study_id = $1 AND p.status IN ('enrolled', 'withdrawn') AND ${armSql(kind)} IS NOT NULL
+        AND ($2::uuid IS NULL OR p.site_id = $2)`;
+  const data = await rows<{
+    key: string;
+    kind: CovariateKind;
+    arm_id: string;
+    numbers: number[] | null;
+    n: number | null;
+    t: string | null;
+    count: number;
+  }>(
+    db,
+    `SELECT c.key, c.kind, ${armSql(kind)} AS arm_id, array_agg(b.value_number) AS numbers,
+            NULL::float8 AS n, NULL::text AS t, count(*)::int AS count
+       ${joins} AND c.kind = 'continuous'
+      WHERE ${counted} AND b.value_number IS NOT NULL
+      GROUP BY 1, 2, 3
+     UNION ALL
+     SELECT c.key, c.kind, ${armSql(kind)}, NULL, b.value_number, b.value_text, count(*)::int
+       ${joins} AND c.kind <> 'continuous'
+      WHERE ${counted}
+      GROUP BY 1, 2, 3, 5, 6`,
     [studyId, view.scope.siteId],
   );
-  const groups = new Map<string, number[]>();
+  const numbers = new Map<string, number[]>();
+  const levels = new Map<string, Map<string, number>>();
   for (const r of data) {
-    const v = codeValue(r.kind, r.n, r.t);
-    if (typeof v !== 'number') continue;
     const k = `${r.key}|${r.arm_id}`;
-    groups.set(k, [...(groups.get(k) ?? []), v]);
+    if (r.numbers) {
+      // float8 arrays come back in PostgreSQL's shortest exact text form, so no digit is lost.
+      numbers.set(k, r.numbers.filter((x) => codeValue('continuous', x, null) !== null));
+      continue;
+    }
+    const v = codeValue(r.kind, r.n, r.t);
+    if (v === null) continue;
+    let counts = levels.get(k);
+    if (!counts) levels.set(k, (counts = new Map()));
+    const level = String(v);
+    counts.set(level, (counts.get(level) ?? 0) + r.count);
   }
+  const empty = new Map<string, number>();
   const values: NonNullable<BaselineTable['pValues']>['values'] = [];
   for (const cov of view.covariates) {
+    const levelLabel = cov.kind === 'binary' ? (l: string) => (l === '1' ? 'yes' : 'no') : (l: string) => l;
     for (const c of cov.balance.comparisons) {
-      if (cov.kind !== 'continuous') {
-        values.push({ covariateKey: cov.key, armId: c.armId, pValue: null, test: 'none (no test for categorical data in the stats package)' });
-        continue;
-      }
-      let p: number | null = null;
-      try {
-        p = oneWayAnova([groups.get(`${cov.key}|${c.armId}`) ?? [], groups.get(`${cov.key}|${c.referenceArmId}`) ?? []]).between.p;
-      } catch (err) {
-        if (!(err instanceof RangeError)) throw err;
-      }
-      values.push({ covariateKey: cov.key, armId: c.armId, pValue: p, test: 'one-way ANOVA F test, arm vs reference' });
+      const armKey = `${cov.key}|${c.armId}`;
+      const refKey = `${cov.key}|${c.referenceArmId}`;
+      const entry =
+        cov.kind === 'continuous'
+          ? continuousPValue(numbers.get(armKey) ?? [], numbers.get(refKey) ?? [])
+          : contingencyPValue(levels.get(armKey) ?? empty, levels.get(refKey) ?? empty, levelLabel);
+      values.push({ covariateKey: cov.key, armId: c.armId, referenceArmId: c.referenceArmId, ...entry });
     }
   }
-  return {
-    caution: balanceCautions.consortPValues,
-    method: 'Continuous covariates: one-way ANOVA F test of each arm against the reference arm (the pooled two-sample t test). Binary and categorical covariates: not computed.',
-    values,
-  };
+  return { caution: balanceCautions.consortPValues, method: PVALUE_METHOD, values };
 }

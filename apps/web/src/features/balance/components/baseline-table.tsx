@@ -7,7 +7,7 @@ import { ErrorState, LoadingState } from '../../../components/ui/states.js';
 import { Table, TBody, TD, TH, THead, TR } from '../../../components/ui/table.js';
 import { buttonClass } from '../../../components/ui/button.js';
 import { baselineTableCsvHref, useBaselineTable } from '../api/get-baseline-table.js';
-import { formatNumber } from './format.js';
+import { pValueRows } from './pvalue-rows.js';
 
 type Row = BaselineTable['rows'][number];
 
@@ -26,12 +26,6 @@ function groupRows(rows: Row[]): Array<{ key: string; label: string; rows: Row[]
     else groups.push({ key: row.covariateKey, label: row.label, rows: [row] });
   }
   return groups;
-}
-
-function formatP(p: number | null): string {
-  if (p === null) return '—';
-  if (p < 0.001) return '< 0.001';
-  return formatNumber(p, 3);
 }
 
 /** The baseline table by arm and overall; p-values only on request, each time with the CONSORT caution. */
@@ -122,41 +116,77 @@ export function BaselineTableCard({ studyId, siteId = null }: { studyId: string;
                 ))}
               </TBody>
             </Table>
-            {showP && table.data.pValues && (
-              <div className="flex flex-col gap-2">
-                <h3 className="text-sm font-semibold text-ink">
-                  Labelled baseline p-values{' '}
-                  <span className="font-normal text-graphite">({table.data.pValues.method})</span>
-                </h3>
-                <Table data-testid="baseline-pvalues">
-                  <caption className="sr-only">
-                    Baseline p-values, shown on request; they are not a measure of imbalance.
-                  </caption>
-                  <THead>
-                    <TR>
-                      <TH>Characteristic</TH>
-                      <TH>Test</TH>
-                      <TH className="text-right">p (chance by construction)</TH>
-                    </TR>
-                  </THead>
-                  <TBody>
-                    {table.data.pValues.values.map((v) => (
-                      <TR key={`${v.covariateKey}-${v.armId}`}>
-                        <TD>
-                          {table.data.rows.find((r) => r.covariateKey === v.covariateKey)?.label ??
-                            v.covariateKey}
-                        </TD>
-                        <TD className="text-graphite">{v.test}</TD>
-                        <TD className="figure text-right">{formatP(v.pValue)}</TD>
-                      </TR>
-                    ))}
-                  </TBody>
-                </Table>
-              </div>
-            )}
+            {showP && table.data.pValues && <PValueTable table={table.data} />}
           </>
         )}
       </CardBody>
     </Card>
+  );
+}
+
+/** The labelled p-values, apart from the table: the test used per row, and footnotes saying why a value is missing or doubtful. */
+function PValueTable({ table }: { table: BaselineTable }) {
+  const { rows, notes, singleComparison } = pValueRows(table);
+  const notesId = useId();
+  return (
+    <div className="flex flex-col gap-2">
+      <h3 className="text-sm font-semibold text-ink">
+        Labelled baseline p-values
+        {singleComparison && (
+          <span className="font-normal text-graphite" data-testid="baseline-pvalues-comparison">
+            : {singleComparison}
+          </span>
+        )}
+      </h3>
+      <p className="text-sm text-graphite" data-testid="baseline-pvalues-method">
+        {table.pValues?.method}
+      </p>
+      <Table data-testid="baseline-pvalues">
+        <caption className="sr-only">
+          Baseline p-values, shown on request; they are not a measure of imbalance.
+        </caption>
+        <THead>
+          <TR>
+            <TH>Characteristic</TH>
+            {!singleComparison && <TH>Comparison</TH>}
+            <TH>Test</TH>
+            <TH className="text-right">p (chance by construction)</TH>
+          </TR>
+        </THead>
+        <TBody>
+          {rows.map((row) => (
+            <TR key={row.id} data-testid="baseline-pvalue-row">
+              <TD>{row.label}</TD>
+              {!singleComparison && <TD className="text-graphite">{row.comparison}</TD>}
+              <TD className="text-graphite whitespace-nowrap">{row.test}</TD>
+              <TD
+                className="figure text-right whitespace-nowrap"
+                title={row.note ?? undefined}
+                aria-describedby={row.marker !== null ? `${notesId}-${row.marker}` : undefined}
+              >
+                {row.p}
+                {row.marker !== null && (
+                  <sup className="ml-0.5 font-sans text-graphite" aria-hidden="true">
+                    {row.marker}
+                  </sup>
+                )}
+              </TD>
+            </TR>
+          ))}
+        </TBody>
+      </Table>
+      {notes.length > 0 && (
+        <ol className="flex flex-col gap-1 text-sm text-graphite" data-testid="baseline-pvalue-notes">
+          {notes.map((n) => (
+            <li key={n.marker} id={`${notesId}-${n.marker}`}>
+              <sup className="mr-1" aria-hidden="true">
+                {n.marker}
+              </sup>
+              {n.text}
+            </li>
+          ))}
+        </ol>
+      )}
+    </div>
   );
 }
