@@ -281,6 +281,8 @@ export type AuditEventRow = {
   revealsAllocation: boolean;
   prevHash: string;
   hash: string;
+  hashScheme: number;
+  contentHash: string | null;
 };
 export const AuditEventEntity = new EntitySchema<AuditEventRow>({
   name: 'AuditEvent',
@@ -304,6 +306,8 @@ export const AuditEventEntity = new EntitySchema<AuditEventRow>({
     revealsAllocation: { type: 'boolean', name: 'reveals_allocation' },
     prevHash: { type: 'text', name: 'prev_hash' },
     hash: { type: 'text' },
+    hashScheme: { type: 'smallint', name: 'hash_scheme' },
+    contentHash: { type: 'text', name: 'content_hash', nullable: true },
   },
 });
 

@@ -36,7 +36,43 @@ export type HashedAuditContent = {
   prevHash: string;
 };
 
-/** SHA-256 over the canonical content, which includes the previous event's hash (a hash chain). */
+/** Scheme 1 (events written before the commit-time seal): SHA-256 over the canonical content, which includes the previous event's hash. */
 export function auditHash(content: HashedAuditContent): string {
   return createHash('sha256').update(canonicalJson(content)).digest('hex');
+}
+
+/** What scheme 2 hashes as an event's content: everything but its place in the chain (sequence, time, link). */
+export type AuditContent = Omit<HashedAuditContent, 'seq' | 'occurredAt' | 'prevHash'>;
+
+/** Scheme 2, content part: SHA-256 over the canonical JSON of the content, computed by the API. */
+export function contentHash(content: AuditContent): string {
+  return createHash('sha256')
+    .update(
+      canonicalJson({
+        id: content.id,
+        actorId: content.actorId,
+        actorEmail: content.actorEmail,
+        actorRole: content.actorRole,
+        action: content.action,
+        entityType: content.entityType,
+        entityId: content.entityId,
+        studyId: content.studyId,
+        siteId: content.siteId,
+        before: content.before,
+        after: content.after,
+        reason: content.reason,
+        requestId: content.requestId,
+        revealsAllocation: content.revealsAllocation,
+      }),
+    )
+    .digest('hex');
+}
+
+/**
+ * Scheme 2, chain part: SHA-256 over the previous event's hash, this event's sequence number,
+ * its UTC time (microseconds) and its content hash. PostgreSQL computes the same in
+ * audit_seal_pending() when it links entries at commit (migration AuditCommitSeal).
+ */
+export function chainHash(prevHash: string, seq: string, occurredAt: string, content: string): string {
+  return createHash('sha256').update(`counterpoise-audit-2|${prevHash}|${seq}|${occurredAt}|${content}`, 'utf8').digest('hex');
 }

@@ -1,5 +1,5 @@
 import type { DataSource } from 'typeorm';
-import { GENESIS_HASH, auditHash } from './audit-hash.js';
+import { GENESIS_HASH, auditHash, chainHash, contentHash } from './audit-hash.js';
 import { occurredAtSql } from './audit.service.js';
 
 export type VerifyResult = {
@@ -28,12 +28,14 @@ type Row = {
   reveals_allocation: boolean;
   prev_hash: string;
   hash: string;
+  hash_scheme: number;
 };
 
 /**
  * Walks the whole chain in order and reports the first event whose stored hash does not
  * match its content (altered) or whose link does not match the previous event (removed,
- * inserted or reordered).
+ * inserted or reordered). Events carry their hash scheme: 1 for those written before the
+ * commit-time seal, 2 after (see audit-hash.ts); an unknown scheme counts as a mismatch.
  */
 export async function verifyAuditChain(ds: DataSource, batchSize = 5000): Promise<VerifyResult> {
   let prev = GENESIS_HASH;
@@ -43,7 +45,7 @@ export async function verifyAuditChain(ds: DataSource, batchSize = 5000): Promis
     const rows: Row[] = await ds.query(
       `SELECT seq::text, id, ${occurredAtSql('occurred_at')} AS occurred_at, actor_id, actor_email, actor_role,
               action, entity_type, entity_id, study_id, site_id, before, after, reason, request_id,
-              reveals_allocation, prev_hash, hash
+              reveals_allocation, prev_hash, hash, hash_scheme
          FROM audit_event WHERE audit_event.seq > $1 ORDER BY audit_event.seq LIMIT $2`,
       [afterSeq, batchSize],
     );
@@ -55,10 +57,8 @@ export async function verifyAuditChain(ds: DataSource, batchSize = 5000): Promis
         lastHash: prev,
       });
       if (r.prev_hash !== prev) return broken('chain_broken');
-      const recomputed = auditHash({
-        seq: r.seq,
+      const content = {
         id: r.id,
-        occurredAt: r.occurred_at,
         actorId: r.actor_id,
         actorEmail: r.actor_email,
         actorRole: r.actor_role,
@@ -72,8 +72,14 @@ export async function verifyAuditChain(ds: DataSource, batchSize = 5000): Promis
         reason: r.reason,
         requestId: r.request_id,
         revealsAllocation: r.reveals_allocation,
-        prevHash: r.prev_hash,
-      });
+      };
+      // Scheme 2 (linked at commit): the content hash is recomputed here, never read from the row.
+      const recomputed =
+        r.hash_scheme === 2
+          ? chainHash(r.prev_hash, r.seq, r.occurred_at, contentHash(content))
+          : r.hash_scheme === 1
+            ? auditHash({ ...content, seq: r.seq, occurredAt: r.occurred_at, prevHash: r.prev_hash })
+            : null;
       if (recomputed !== r.hash) return broken('hash_mismatch');
       prev = r.hash;
       checked += 1;

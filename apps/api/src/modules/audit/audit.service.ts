@@ -1,7 +1,7 @@
 import { randomUUID } from 'node:crypto';
 import type { EntityManager } from 'typeorm';
 import { AppError } from '../../http/app-error.js';
-import { GENESIS_HASH, auditHash, type HashedAuditContent } from './audit-hash.js';
+import { GENESIS_HASH, chainHash, contentHash, type AuditContent } from './audit-hash.js';
 
 /** Who is acting, carried from the request into every audit entry. */
 export type AuditActor = {
@@ -24,80 +24,122 @@ export type AuditEntry = {
   revealsAllocation?: boolean;
 };
 
-// One lock key for the whole chain: entries are linked in commit order.
+// One lock key for the whole chain: entries are linked in commit order. The commit-time seal in
+// PostgreSQL (audit_seal_pending) takes the same key.
 const CHAIN_LOCK_KEY = 7_261_905_001;
 const OCCURRED_AT_TEXT = `to_char(%s AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.US"Z"')`;
 export const occurredAtSql = (column: string) => OCCURRED_AT_TEXT.replace('%s', column);
 
+/**
+ * Up to this many entries go through audit_pending and are linked at commit; larger batches
+ * (imports) are linked here, under the chain lock, which moving them twice would cost more than
+ * the lock does for one long transaction.
+ */
+export const SEAL_AT_COMMIT_MAX = 500;
+
 /** A JSON round trip gives exactly what jsonb will hand back when the chain is verified. */
 const normalise = (v: unknown): unknown => (v === undefined ? null : JSON.parse(JSON.stringify(v)));
 
+function contentOf(actor: AuditActor, e: AuditEntry): AuditContent {
+  return {
+    id: randomUUID(),
+    actorId: actor.userId,
+    actorEmail: actor.email,
+    actorRole: actor.role,
+    action: e.action,
+    entityType: e.entityType,
+    entityId: e.entityId ?? null,
+    studyId: e.studyId ?? null,
+    siteId: e.siteId ?? null,
+    before: normalise(e.before),
+    after: normalise(e.after),
+    reason: e.reason ?? null,
+    requestId: actor.requestId,
+    revealsAllocation: e.revealsAllocation ?? false,
+  };
+}
+
 /**
- * Appends entries to the audit trail inside the caller's transaction. Call it last, just
- * before commit: it takes the chain lock, which is held until the transaction ends.
+ * Appends entries to the audit trail inside the caller's transaction: they exist exactly when
+ * the change commits. The API hashes each entry's content; PostgreSQL gives it its sequence
+ * number and time and links it into the chain at COMMIT (see the AuditCommitSeal migration), so
+ * the chain lock is held only inside the server, never across a round trip.
  */
 export async function appendAudit(tx: EntityManager, actor: AuditActor, entries: AuditEntry[]): Promise<void> {
   if (entries.length === 0) return;
+  assertInTransaction(tx);
+  if (entries.length <= SEAL_AT_COMMIT_MAX) {
+    await tx.query(`INSERT INTO audit_pending (entries) VALUES ($1::jsonb)`, [pendingAuditPayload(actor, entries)]);
+    return;
+  }
+  await appendLinked(tx, entries.map((e) => contentOf(actor, e)));
+}
+
+function assertInTransaction(tx: EntityManager): void {
   if (!tx.queryRunner?.isTransactionActive) {
     throw new AppError('internal', 'Audit entries must be written inside the transaction of their change');
   }
+}
+
+/**
+ * The audit_pending payload of up to SEAL_AT_COMMIT_MAX entries, for a caller that writes it in
+ * the same statement as its change (one round trip less on the enrollment path). The caller
+ * inserts it as `INSERT INTO audit_pending (entries) VALUES ($n::jsonb)` in the transaction `tx`.
+ */
+export function pendingAuditPayload(actor: AuditActor, entries: AuditEntry[], tx?: EntityManager): string {
+  if (tx) assertInTransaction(tx);
+  if (entries.length === 0 || entries.length > SEAL_AT_COMMIT_MAX) {
+    throw new AppError('internal', `A pending audit payload holds 1 to ${SEAL_AT_COMMIT_MAX} entries`);
+  }
+  return JSON.stringify(
+    entries.map((e) => {
+      const c = contentOf(actor, e);
+      return { ...c, contentHash: contentHash(c) };
+    }),
+  );
+}
+
+/** Large batches: link here, under the chain lock, which is then held until the transaction ends. */
+async function appendLinked(tx: EntityManager, contents: AuditContent[]): Promise<void> {
   await tx.query('SELECT pg_advisory_xact_lock($1)', [CHAIN_LOCK_KEY]);
   // After the lock (its own statement, so this one's snapshot sees every committed entry): the
   // chain head, the time and the sequence numbers in one round trip.
   const head: { prev: string | null; at: string; seqs: string[] }[] = await tx.query(
     `SELECT (SELECT hash FROM audit_event ORDER BY seq DESC LIMIT 1) AS prev, ${occurredAtSql('clock_timestamp()')} AS at,
             ARRAY(SELECT nextval(pg_get_serial_sequence('audit_event', 'seq'))::text FROM generate_series(1, $1)) AS seqs`,
-    [entries.length],
+    [contents.length],
   );
-  const seqs = head[0]!.seqs.map((seq) => ({ seq }));
+  const seqs = head[0]!.seqs;
   let prevHash = head[0]?.prev ?? GENESIS_HASH;
   const occurredAt = head[0]!.at;
-  const rows: HashedAuditContent[] = [];
-  const hashes: string[] = [];
-  entries.forEach((e, i) => {
-    const content: HashedAuditContent = {
-      seq: seqs[i]!.seq,
-      id: randomUUID(),
-      occurredAt,
-      actorId: actor.userId,
-      actorEmail: actor.email,
-      actorRole: actor.role,
-      action: e.action,
-      entityType: e.entityType,
-      entityId: e.entityId ?? null,
-      studyId: e.studyId ?? null,
-      siteId: e.siteId ?? null,
-      before: normalise(e.before),
-      after: normalise(e.after),
-      reason: e.reason ?? null,
-      requestId: actor.requestId,
-      revealsAllocation: e.revealsAllocation ?? false,
-      prevHash,
-    };
-    const hash = auditHash(content);
-    rows.push(content);
-    hashes.push(hash);
+  const links: { prev: string; hash: string; content: string }[] = contents.map((c, i) => {
+    const content = contentHash(c);
+    const hash = chainHash(prevHash, seqs[i]!, occurredAt, content);
+    const link = { prev: prevHash, hash, content };
     prevHash = hash;
+    return link;
   });
-  // Insert in chunks to stay under PostgreSQL's parameter limit on large imports.
-  const columns = 18;
+  // Insert in chunks to stay under PostgreSQL's parameter limit.
+  const columns = 19;
   const chunk = Math.floor(60_000 / columns);
-  for (let start = 0; start < rows.length; start += chunk) {
-    const slice = rows.slice(start, start + chunk);
+  for (let start = 0; start < contents.length; start += chunk) {
+    const slice = contents.slice(start, start + chunk);
     const values: unknown[] = [];
     const tuples = slice.map((r, j) => {
       const b = j * columns;
+      const l = links[start + j]!;
       values.push(
-        r.seq, r.id, r.occurredAt, r.actorId, r.actorEmail, r.actorRole, r.action, r.entityType, r.entityId,
+        seqs[start + j], r.id, occurredAt, r.actorId, r.actorEmail, r.actorRole, r.action, r.entityType, r.entityId,
         r.studyId, r.siteId, r.before === null ? null : JSON.stringify(r.before),
-        r.after === null ? null : JSON.stringify(r.after), r.reason, r.requestId, r.revealsAllocation, r.prevHash,
-        hashes[start + j],
+        r.after === null ? null : JSON.stringify(r.after), r.reason, r.requestId, r.revealsAllocation, l.prev,
+        l.hash, l.content,
       );
-      return `(${Array.from({ length: columns }, (_, k) => `$${b + k + 1}`).join(',')})`;
+      return `(${Array.from({ length: columns }, (_, k) => `$${b + k + 1}`).join(',')},2)`;
     });
     await tx.query(
       `INSERT INTO audit_event (seq, id, occurred_at, actor_id, actor_email, actor_role, action, entity_type,
-         entity_id, study_id, site_id, before, after, reason, request_id, reveals_allocation, prev_hash, hash)
+         entity_id, study_id, site_id, before, after, reason, request_id, reveals_allocation, prev_hash, hash,
+         content_hash, hash_scheme)
        VALUES ${tuples.join(',')}`,
       values,
     );

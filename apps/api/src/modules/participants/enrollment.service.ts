@@ -7,7 +7,7 @@ import {
 import type { EntityManager } from 'typeorm';
 import type { AppContext } from '../../app-context.js';
 import { AppError } from '../../http/app-error.js';
-import { appendAudit, type AuditActor, type AuditEntry } from '../audit/audit.service.js';
+import { SEAL_AT_COMMIT_MAX, appendAudit, pendingAuditPayload, type AuditActor, type AuditEntry } from '../audit/audit.service.js';
 import type { StudyDesign } from '../design/study-design.js';
 import { allocate, insertAllocations, levelOf, randomCode, type AllocationResult } from './allocation.service.js';
 
@@ -256,6 +256,10 @@ export async function enrollValidated(
   const ids = idCode.map((x) => x.id);
   await insertBaseline(tx, design, existing.map((i) => ids[i]!), existing.map((i) => items[i]!));
 
+  // The job first: from the stratum reservation on, every round trip holds the stratum's lock.
+  if (!opts.skipJob) {
+    await ctx.jobs.send(tx, 'balance.recompute', { studyId: design.id, reason: opts.auditMode === 'batch' ? 'participants imported' : 'participant enrolled' }, { singletonKey: design.id });
+  }
   let allocations: AllocationResult[] = [];
   if (design.kind === 'randomized_trial') {
     allocations = await allocate(
@@ -263,10 +267,6 @@ export async function enrollValidated(
       design,
       items.map((it, i) => ({ participantId: ids[i]!, siteCode: it.siteCode, levels: factorLevels(design, it) })),
     );
-    await insertAllocations(tx, design, allocations);
-  }
-  if (!opts.skipJob) {
-    await ctx.jobs.send(tx, 'balance.recompute', { studyId: design.id, reason: opts.auditMode === 'batch' ? 'participants imported' : 'participant enrolled' }, { singletonKey: design.id });
   }
 
   const armCode = new Map(design.arms.map((a) => [a.id, a.code]));
@@ -321,7 +321,14 @@ export async function enrollValidated(
       revealsAllocation: true,
     });
   }
-  await appendAudit(tx, actor, [...entries, ...(opts.extraAudit ?? [])]);
+  const allEntries = [...entries, ...(opts.extraAudit ?? [])];
+  if (allocations.length && allocations.length <= 5000 && allEntries.length <= SEAL_AT_COMMIT_MAX) {
+    // Live enrollments: allocations and audit entries in one statement, then COMMIT.
+    await insertAllocations(tx, design, allocations, pendingAuditPayload(actor, allEntries, tx));
+  } else {
+    if (allocations.length) await insertAllocations(tx, design, allocations);
+    await appendAudit(tx, actor, allEntries);
+  }
 
   return items.map((it, i) => ({
     id: idCode[i]!.id,

@@ -9,9 +9,10 @@ import {
   superuserQuery,
   type TestContext,
 } from '../../../test/harness.js';
-import { appendAudit } from '../audit.service.js';
+import { SEAL_AT_COMMIT_MAX, appendAudit } from '../audit.service.js';
 import { verifyAuditChain } from '../audit-verify.js';
-import { GENESIS_HASH, auditHash, canonicalJson } from '../audit-hash.js';
+import { GENESIS_HASH, auditHash, canonicalJson, chainHash, contentHash } from '../audit-hash.js';
+import { createHash } from 'node:crypto';
 
 let t: TestContext;
 beforeAll(async () => {
@@ -92,7 +93,7 @@ describe('audit trail storage', () => {
 });
 
 describe('hash chain', () => {
-  it('recomputes every stored hash from its content (SHA-256 over canonical JSON, FIPS 180-4)', async () => {
+  it('recomputes every stored hash from its content and link (SHA-256, FIPS 180-4, over canonical JSON)', async () => {
     const result = await verifyAuditChain(t.ctx.ds);
     expect(result.ok).toBe(true);
     expect(result.checked).toBe(await auditCount(t));
@@ -145,6 +146,92 @@ describe('hash chain', () => {
     } finally {
       await t2.close();
     }
+  });
+
+  it('links small appends at commit in PostgreSQL and large ones in the API, to the same scheme-2 chain', async () => {
+    const t4 = await createTestContext();
+    try {
+      const many = SEAL_AT_COMMIT_MAX + 3;
+      await inTransaction(t4.ctx.ds, (tx) => appendAudit(tx, actor, [{ action: 'test.small', entityType: 'test', before: { a: 1.5, b: [true, null] } }]));
+      await inTransaction(t4.ctx.ds, (tx) =>
+        appendAudit(tx, actor, Array.from({ length: many }, (_, i) => ({ action: 'test.large', entityType: 'test', entityId: String(i) }))),
+      );
+      // Both paths in one transaction: the large batch is linked first, the small one at commit.
+      await inTransaction(t4.ctx.ds, async (tx) => {
+        await appendAudit(tx, actor, [{ action: 'test.mixed_small', entityType: 'test' }]);
+        await appendAudit(tx, actor, Array.from({ length: many }, () => ({ action: 'test.mixed_large', entityType: 'test' })));
+      });
+      const rows = await t4.ownerQuery<{ seq: string; action: string; hash_scheme: number; at: string; prev_hash: string; hash: string; content_hash: string }>(
+        `SELECT seq::text, action, hash_scheme, to_char(occurred_at AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.US"Z"') AS at,
+                prev_hash, hash, content_hash FROM audit_event ORDER BY audit_event.seq`,
+      );
+      expect(rows).toHaveLength(1 + 2 * many + 1);
+      expect(rows.every((r) => r.hash_scheme === 2)).toBe(true);
+      expect(rows.at(-1)!.action).toBe('test.mixed_small');
+      expect(await t4.ownerQuery(`SELECT * FROM audit_pending`)).toHaveLength(0);
+      // Scheme 2 from its published parts, SHA-256 (FIPS 180-4) via node:crypto, not via chainHash.
+      const first = rows[0]!;
+      const direct = createHash('sha256').update(`counterpoise-audit-2|${GENESIS_HASH}|${first.seq}|${first.at}|${first.content_hash}`).digest('hex');
+      expect(first.hash).toBe(direct);
+      expect(chainHash(GENESIS_HASH, first.seq, first.at, first.content_hash)).toBe(direct);
+      expect(await verifyAuditChain(t4.ctx.ds)).toMatchObject({ ok: true, checked: rows.length });
+    } finally {
+      await t4.close();
+    }
+  });
+
+  it('when scheme-1 events precede scheme-2 events, then both verify and tampering with either is found', async () => {
+    const t5 = await createTestContext();
+    try {
+      // A scheme-1 event as the API wrote them before the commit-time seal.
+      const content = {
+        seq: '1', id: '00000000-0000-4000-8000-000000000001', occurredAt: '2026-11-30T10:00:00.000001Z', actorId: null,
+        actorEmail: 'old@counterpoise.local', actorRole: 'system', action: 'test.old', entityType: 'test', entityId: null,
+        studyId: null, siteId: null, before: null, after: { n: 1 }, reason: null, requestId: null, revealsAllocation: false,
+        prevHash: GENESIS_HASH,
+      };
+      await superuserQuery(
+        t5,
+        `SELECT setval(pg_get_serial_sequence('audit_event', 'seq'), 1);
+         INSERT INTO audit_event (seq, id, occurred_at, actor_email, actor_role, action, entity_type, after, reveals_allocation, prev_hash, hash, hash_scheme)
+         VALUES (1, '${content.id}', '${content.occurredAt}', 'old@counterpoise.local', 'system', 'test.old', 'test', '{"n":1}', false,
+                 '${GENESIS_HASH}', '${auditHash(content)}', 1)`,
+      );
+      await inTransaction(t5.ctx.ds, (tx) => appendAudit(tx, actor, [{ action: 'test.new', entityType: 'test' }]));
+      const rows = await t5.ownerQuery<{ seq: string; id: string; hash_scheme: number; prev_hash: string }>(
+        `SELECT seq::text, id, hash_scheme, prev_hash FROM audit_event ORDER BY audit_event.seq`,
+      );
+      expect(rows.map((r) => r.hash_scheme)).toEqual([1, 2]);
+      expect(rows[1]!.prev_hash).toBe(auditHash(content));
+      expect(await verifyAuditChain(t5.ctx.ds)).toMatchObject({ ok: true, checked: 2 });
+      // A change to a scheme-2 event's content, even with its stored content hash recomputed to match.
+      const forged = contentHash({ ...content, id: rows[1]!.id, action: 'test.forged', actorEmail: actor.email, actorRole: actor.role, after: null, requestId: actor.requestId });
+      await superuserQuery(
+        t5,
+        `SET session_replication_role = replica; UPDATE audit_event SET action = 'test.forged', content_hash = '${forged}' WHERE seq = ${Number(rows[1]!.seq)}; SET session_replication_role = origin;`,
+      );
+      expect((await verifyAuditChain(t5.ctx.ds)).firstBroken).toEqual({ seq: Number(rows[1]!.seq), id: rows[1]!.id, problem: 'hash_mismatch' });
+      // Relabelling a scheme-2 event as scheme 1 does not pass either.
+      await superuserQuery(
+        t5,
+        `SET session_replication_role = replica; UPDATE audit_event SET action = 'test.new', hash_scheme = 1 WHERE seq = ${Number(rows[1]!.seq)}; SET session_replication_role = origin;`,
+      );
+      expect((await verifyAuditChain(t5.ctx.ds)).firstBroken?.problem).toBe('hash_mismatch');
+    } finally {
+      await t5.close();
+    }
+  });
+
+  it('when a transaction rolls back, then its pending entries leave nothing behind', async () => {
+    const before = await auditCount(t);
+    await expect(
+      inTransaction(t.ctx.ds, async (tx) => {
+        await appendAudit(tx, actor, [{ action: 'test.rolled_back', entityType: 'test' }]);
+        throw new Error('stop');
+      }),
+    ).rejects.toThrow('stop');
+    expect(await auditCount(t)).toBe(before);
+    expect(await t.ownerQuery(`SELECT * FROM audit_pending`)).toHaveLength(0);
   });
 
   it('when many transactions append at once, then the chain stays linked in order', async () => {
