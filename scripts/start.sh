@@ -74,7 +74,7 @@ done
 
 cp_step "starting services"
 cp_start_service fake-smtp "$LOG_DIR/fake-smtp.log" node --import tsx "$SMTP_ENTRY"
-cp_start_service api "$LOG_DIR/api.log" node --import tsx "$API_ENTRY"
+cp_start_service api "$LOG_DIR/api.log" node --max-old-space-size="${API_HEAP_MB:-256}" --import tsx "$API_ENTRY"
 cp_start_service worker "$LOG_DIR/worker.log" node --import tsx "$WORKER_ENTRY"
 
 URL="http://127.0.0.1:$PORT"

@@ -126,7 +126,7 @@ stage_browser() {
 
   cp_start_service e2e-fake-smtp "$LOG_DIR/e2e-fake-smtp.log" \
     env "${e2e_env[@]}" node --import tsx apps/api/src/mail/fake-smtp-server.ts
-  cp_start_service e2e-api "$LOG_DIR/e2e-api.log" env "${e2e_env[@]}" node --import tsx apps/api/src/server.ts
+  cp_start_service e2e-api "$LOG_DIR/e2e-api.log" env "${e2e_env[@]}" node --max-old-space-size="${API_HEAP_MB:-256}" --import tsx apps/api/src/server.ts
   cp_start_service e2e-worker "$LOG_DIR/e2e-worker.log" env "${e2e_env[@]}" node --import tsx apps/api/src/worker.ts
   if ! cp_wait_http "$url/api/health" "$(cp_service_pid e2e-api)" 90; then
     cp_show_log_tail api "$LOG_DIR/e2e-api.log"

@@ -177,6 +177,8 @@ type Seeded = Awaited<ReturnType<typeof seed>>;
 
 async function openDatabase() {
   const base = loadEnv({ ...process.env, LOG_LEVEL: 'silent' });
+  // A database kept from an earlier run gets the migrations added since.
+  await migrate(base, DB);
   const owner = new pg.Client({
     host: base.DB_HOST,
     port: base.DB_PORT,

@@ -8,12 +8,25 @@ import type { CriterionOp, EligibilityCriterion } from './design.js';
  * and the API run the very same schema.
  */
 
+/**
+ * Whether a YYYY-MM-DD text names a real day of the proleptic Gregorian calendar (ISO 8601):
+ * month 1-12, day within the month, 29 February only in leap years (divisible by 4, except
+ * centuries not divisible by 400). Arithmetic, not Date parsing: imports check a million dates.
+ */
+export function isCalendarDate(s: string): boolean {
+  const y = Number(s.slice(0, 4));
+  const m = Number(s.slice(5, 7));
+  const d = Number(s.slice(8, 10));
+  if (!(m >= 1 && m <= 12 && d >= 1)) return false;
+  const leap = (y % 4 === 0 && y % 100 !== 0) || y % 400 === 0;
+  const days = m === 2 ? (leap ? 29 : 28) : m === 4 || m === 6 || m === 9 || m === 11 ? 30 : 31;
+  return d <= days;
+}
+
 export const isoDateSchema = z
   .string()
   .regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2026-03-14')
-  .refine((s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().startsWith(s), {
-    message: 'Not a real calendar date',
-  });
+  .refine(isCalendarDate, { message: 'Not a real calendar date' });
 
 /** The calendar date in UTC, as the API uses it for "today". */
 export const utcToday = (now = new Date()): string => now.toISOString().slice(0, 10);

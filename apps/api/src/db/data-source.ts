@@ -3,6 +3,7 @@ import type { Env } from '../config/env.js';
 import { entities } from './entities.js';
 import { BulkIntegrity1765065600000 } from './migrations/1765065600000-bulk-integrity.js';
 import { AuditCommitSeal1765152000000 } from './migrations/1765152000000-audit-commit-seal.js';
+import { BalanceLogNewParticipants1765152000001 } from './migrations/1765152000001-balance-log-new-participants.js';
 import { Digest1764892800000 } from './migrations/1764892800000-digest.js';
 import { Foundation1764633600000 } from './migrations/1764633600000-foundation.js';
 import { Balance1764720000000 } from './migrations/1764720000000-balance.js';
@@ -11,7 +12,7 @@ import { BalanceSnapshotJson1764979200000 } from './migrations/1764979200000-bal
 import { BalanceChangeAutovacuum1764979200001 } from './migrations/1764979200001-balance-change-autovacuum.js';
 
 /** Every migration, in order. Add new ones at the end; never edit a merged one. */
-export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000, BalanceChangeAutovacuum1764979200001, BulkIntegrity1765065600000, AuditCommitSeal1765152000000];
+export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000, BalanceChangeAutovacuum1764979200001, BulkIntegrity1765065600000, AuditCommitSeal1765152000000, BalanceLogNewParticipants1765152000001];
 
 type DbRole = 'app' | 'owner';
 

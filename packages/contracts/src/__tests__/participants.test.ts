@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { buildBaselineSchema, enrollBodySchema, evaluateEligibility, participantListQuerySchema, participantPatchBodySchema, type BaselineCovariate } from '../participants.js';
+import { buildBaselineSchema, enrollBodySchema, evaluateEligibility, isCalendarDate, isoDateSchema, participantListQuerySchema, participantPatchBodySchema, type BaselineCovariate } from '../participants.js';
 import type { EligibilityCriterion } from '../design.js';
 
 const covariates: BaselineCovariate[] = [
@@ -106,5 +106,40 @@ describe('request bodies', () => {
     expect(participantListQuerySchema.parse({ page: '2', pageSize: '50' })).toMatchObject({ page: 2, pageSize: 50, sort: '-enrolledAt' });
     expect(participantListQuerySchema.safeParse({ sort: 'dob' }).success).toBe(false);
     expect(participantListQuerySchema.safeParse({ pageSize: '1000' }).success).toBe(false);
+  });
+});
+
+describe('isCalendarDate', () => {
+  // Reference: ECMAScript's Date, which uses the proleptic Gregorian calendar (ECMA-262, "Time
+  // Values and Time Range"): a text is a real day when a UTC round trip gives it back unchanged.
+  const byDate = (s: string) => {
+    const t = Date.parse(`${s}T00:00:00Z`);
+    return !Number.isNaN(t) && new Date(t).toISOString().startsWith(s);
+  };
+  const pad = (n: number, w: number) => String(n).padStart(w, '0');
+
+  it('agrees with Date on every month and day number 0-32 from 1896 to 2104', () => {
+    let disagreements = 0;
+    let checked = 0;
+    for (let y = 1896; y <= 2104; y++) {
+      for (let m = 0; m <= 13; m++) {
+        for (let d = 0; d <= 32; d++) {
+          const s = `${pad(y, 4)}-${pad(m, 2)}-${pad(d, 2)}`;
+          checked++;
+          if (isCalendarDate(s) !== byDate(s)) disagreements++;
+        }
+      }
+    }
+    expect(checked).toBe(209 * 14 * 33);
+    expect(disagreements).toBe(0);
+  });
+
+  it('follows the Gregorian leap-year rule for centuries (1900 is not a leap year, 2000 is)', () => {
+    expect(isCalendarDate('1900-02-29')).toBe(false);
+    expect(isCalendarDate('2000-02-29')).toBe(true);
+    expect(isCalendarDate('2024-02-29')).toBe(true);
+    expect(isCalendarDate('2026-02-29')).toBe(false);
+    expect(isoDateSchema.safeParse('2026-04-31').success).toBe(false);
+    expect(isoDateSchema.safeParse('2026-12-31').success).toBe(true);
   });
 });

@@ -5,14 +5,24 @@ export const GENESIS_HASH = '0'.repeat(64);
 /** JSON with object keys sorted at every level, so the same content always hashes the same. */
 export function canonicalJson(value: unknown): string {
   if (value === null || value === undefined) return 'null';
-  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
-  if (typeof value === 'object') {
-    const entries = Object.entries(value as Record<string, unknown>)
-      .filter(([, v]) => v !== undefined)
-      .sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
-    return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${canonicalJson(v)}`).join(',')}}`;
+  if (typeof value !== 'object') return JSON.stringify(value);
+  if (Array.isArray(value)) {
+    let out = '[';
+    for (let i = 0; i < value.length; i++) out += (i ? ',' : '') + canonicalJson(value[i]);
+    return `${out}]`;
   }
-  return JSON.stringify(value);
+  const obj = value as Record<string, unknown>;
+  // Default sort compares UTF-16 code units, as `<` on strings does.
+  const keys = Object.keys(obj).sort();
+  let out = '{';
+  let first = true;
+  for (const k of keys) {
+    const v = obj[k];
+    if (v === undefined) continue;
+    out += `${first ? '' : ','}${JSON.stringify(k)}:${canonicalJson(v)}`;
+    first = false;
+  }
+  return `${out}}`;
 }
 
 /** The fields an audit event's hash covers; `occurredAt` is the UTC text with microseconds. */

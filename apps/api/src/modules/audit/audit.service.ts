@@ -119,29 +119,25 @@ async function appendLinked(tx: EntityManager, contents: AuditContent[]): Promis
     prevHash = hash;
     return link;
   });
-  // Insert in chunks to stay under PostgreSQL's parameter limit.
-  const columns = 19;
-  const chunk = Math.floor(60_000 / columns);
+  // One JSON parameter per chunk: PostgreSQL binds one value instead of 19 per event.
+  const chunk = 2000;
   for (let start = 0; start < contents.length; start += chunk) {
-    const slice = contents.slice(start, start + chunk);
-    const values: unknown[] = [];
-    const tuples = slice.map((r, j) => {
-      const b = j * columns;
+    const rows = contents.slice(start, start + chunk).map((c, j) => {
       const l = links[start + j]!;
-      values.push(
-        seqs[start + j], r.id, occurredAt, r.actorId, r.actorEmail, r.actorRole, r.action, r.entityType, r.entityId,
-        r.studyId, r.siteId, r.before === null ? null : JSON.stringify(r.before),
-        r.after === null ? null : JSON.stringify(r.after), r.reason, r.requestId, r.revealsAllocation, l.prev,
-        l.hash, l.content,
-      );
-      return `(${Array.from({ length: columns }, (_, k) => `$${b + k + 1}`).join(',')},2)`;
+      return { ...c, seq: seqs[start + j], prevHash: l.prev, hash: l.hash, contentHash: l.content };
     });
     await tx.query(
       `INSERT INTO audit_event (seq, id, occurred_at, actor_id, actor_email, actor_role, action, entity_type,
          entity_id, study_id, site_id, before, after, reason, request_id, reveals_allocation, prev_hash, hash,
          content_hash, hash_scheme)
-       VALUES ${tuples.join(',')}`,
-      values,
+       SELECT r."seq", r."id", $2::timestamptz, r."actorId", r."actorEmail", r."actorRole", r."action", r."entityType",
+              r."entityId", r."studyId", r."siteId", NULLIF(r."before", 'null'::jsonb), NULLIF(r."after", 'null'::jsonb),
+              r."reason", r."requestId", r."revealsAllocation", r."prevHash", r."hash", r."contentHash", 2
+         FROM jsonb_to_recordset($1::jsonb) AS r("seq" bigint, "id" uuid, "actorId" uuid, "actorEmail" text, "actorRole" text,
+              "action" text, "entityType" text, "entityId" text, "studyId" uuid, "siteId" uuid, "before" jsonb, "after" jsonb,
+              "reason" text, "requestId" text, "revealsAllocation" boolean, "prevHash" text, "hash" text, "contentHash" text)
+        ORDER BY r."seq"`,
+      [JSON.stringify(rows), occurredAt],
     );
   }
 }

@@ -357,11 +357,72 @@ async function writeScreened(tx: EntityManager, design: StudyDesign, actor: Audi
   await appendAudit(tx, actor, entries);
 }
 
+/** The file's SHA-256 and its number of line breaks (a row estimate for progress), in one read. */
+async function fileFacts(filePath: string): Promise<{ sha256: string; lineBreaks: number }> {
+  const hash = createHash('sha256');
+  let lineBreaks = 0;
+  for await (const chunk of fs.createReadStream(filePath, { highWaterMark: 1024 * 1024 }) as AsyncIterable<Buffer>) {
+    hash.update(chunk);
+    for (let i = chunk.indexOf(10); i !== -1; i = chunk.indexOf(10, i + 1)) lineBreaks++;
+  }
+  return { sha256: hash.digest('hex'), lineBreaks };
+}
+
+/** Thrown inside the commit transaction when the file turns out invalid: rolls everything back and carries the report. */
+class ImportRejected extends Error {
+  constructor(readonly report: ImportReport) {
+    super('The import has invalid rows');
+  }
+}
+
+type Tally = { errors: RowError[]; seen: Set<string>; skipped: number; columns: Columns | null };
+
+/** Checks one batch of rows; returns what to write. Duplicate references are errors, known ones are skipped. */
+function checkBatch(rc: Omit<RowContext, 'columns'>, tally: Tally, known: Set<string>, rows: string[][], first: number) {
+  const enroll: ValidEnrollment[] = [];
+  const screened: Extract<ParsedRow, { kind: 'screen' }>[] = [];
+  rows.forEach((cells, j) => {
+    const rowErrors: RowError[] = [];
+    const parsed = parseRow({ ...rc, columns: tally.columns! }, cells, first + j, rowErrors);
+    if (parsed) {
+      if (tally.seen.has(parsed.importKey)) {
+        rowErrors.push({ row: first + j, field: 'participant_ref', message: `Reference '${parsed.importKey}' appears more than once in the file` });
+      } else if (known.has(parsed.importKey)) tally.skipped++;
+      else if (parsed.kind === 'enroll') enroll.push(parsed.value);
+      else screened.push(parsed);
+      tally.seen.add(parsed.importKey);
+    }
+    for (const e of rowErrors) tally.errors.push(e);
+  });
+  return { enroll, screened };
+}
+
+function reportOf(mode: ImportRequest['mode'], sniffed: { delimiter: string }, sha256: string, rows: number, tally: Tally): ImportReport {
+  return {
+    mode,
+    fileSha256: sha256,
+    delimiter: sniffed.delimiter === '\t' ? 'tab' : sniffed.delimiter,
+    rowCount: rows,
+    validRows: rows - new Set(tally.errors.map((e) => e.row)).size,
+    errors: tally.errors.slice(0, IMPORT_LIMITS.maxErrors),
+    errorsTruncated: tally.errors.length > IMPORT_LIMITS.maxErrors,
+    imported: 0,
+    skippedExisting: tally.skipped,
+    alreadyImported: false,
+    batchId: null,
+  };
+}
+
 /**
  * Validates a participants CSV (preview) or imports it (commit). Commit runs the whole file
  * in one transaction, rows allocated in file order; any invalid row imports nothing. The
  * same file (SHA-256) committed twice adds nothing, and a participant_ref already imported
  * is skipped, never duplicated.
+ *
+ * A commit reads the file once: each batch is checked and, while every row so far is valid,
+ * written (the next batch is checked while one is being written). After the first invalid row
+ * nothing more is written, the rest is still checked so the report names every bad row, and
+ * the transaction rolls back.
  */
 export async function importParticipants(ctx: AppContext, req: ImportRequest): Promise<ImportReport> {
   const progress = (phase: 'validating' | 'writing' | 'done' | 'failed', rowsProcessed: number, totalRows: number | null) => {
@@ -371,163 +432,131 @@ export async function importParticipants(ctx: AppContext, req: ImportRequest): P
     const sniffed = sniff(readHead(req.filePath));
     const design = await loadDesign(ctx.ds, req.studyId);
     if (!design.allocation) throw new AppError('precondition_failed', 'The study design is not complete yet');
-    const rc: Omit<RowContext, 'columns'> = {
-      design,
+    const contextOf = (d: StudyDesign): Omit<RowContext, 'columns'> => ({
+      design: d,
       delimiter: sniffed.delimiter,
-      siteByCode: new Map(design.sites.map((s) => [s.code, s.id])),
+      siteByCode: new Map(d.sites.map((s) => [s.code, s.id])),
       allowedSites: req.allowedSites,
-      armByCode: new Map(design.arms.map((a) => [a.code, a.id])),
+      armByCode: new Map(d.arms.map((a) => [a.code, a.id])),
       today: utcToday(),
+    });
+    const newTally = (): Tally => ({ errors: [], seen: new Set(), skipped: 0, columns: null });
+    const onHeader = (d: StudyDesign, tally: Tally) => (header: string[]) => {
+      const h = checkHeader(d, header);
+      if (h.errors.length) {
+        tally.errors.push(...h.errors);
+        throw new HeaderStop();
+      }
+      tally.columns = h.columns;
     };
-    const known = await existingKeys(ctx.ds, req.studyId);
-    const seen = new Set<string>();
-    const errors: RowError[] = [];
-    let columns: Columns | null = null;
-    let skipped = 0;
-    const pushError = (e: RowError) => {
-      errors.push(e);
-    };
-
-    // Pass 1: validate every row, keep nothing but the errors (memory stays flat for large files).
-    progress('validating', 0, null);
-    let processed = 0;
-    const pass1 = await streamRowsOrHeaderStop(
-      req.filePath,
-      sniffed,
-      (header) => {
-        const h = checkHeader(design, header);
-        if (h.errors.length) {
-          errors.push(...h.errors);
-          throw new HeaderStop();
-        }
-        columns = h.columns;
-      },
-      async (rows, first) => {
-        rows.forEach((cells, j) => {
-          const rowErrors: RowError[] = [];
-          const parsed = parseRow({ ...rc, columns: columns! }, cells, first + j, rowErrors);
-          if (parsed) {
-            if (seen.has(parsed.importKey)) rowErrors.push({ row: first + j, field: 'participant_ref', message: `Reference '${parsed.importKey}' appears more than once in the file` });
-            else if (known.has(parsed.importKey)) skipped++;
-            seen.add(parsed.importKey);
-          }
-          rowErrors.forEach(pushError);
-        });
-        processed += rows.length;
-        progress('validating', processed, null);
-      },
-    );
-    if (!pass1) {
+    const headerFailed = (tally: Tally): ImportReport => {
       progress('failed', 0, null);
-      return {
-        mode: req.mode, fileSha256: '', delimiter: sniffed.delimiter === '\t' ? 'tab' : sniffed.delimiter, rowCount: 0, validRows: 0,
-        errors, errorsTruncated: false, imported: 0, skippedExisting: 0, alreadyImported: false, batchId: null,
-      };
-    }
-    const report: ImportReport = {
-      mode: req.mode,
-      fileSha256: pass1.sha256,
-      delimiter: sniffed.delimiter === '\t' ? 'tab' : sniffed.delimiter,
-      rowCount: pass1.rows,
-      validRows: pass1.rows - new Set(errors.map((e) => e.row)).size,
-      errors: errors.slice(0, IMPORT_LIMITS.maxErrors),
-      errorsTruncated: errors.length > IMPORT_LIMITS.maxErrors,
-      imported: 0,
-      skippedExisting: skipped,
-      alreadyImported: false,
-      batchId: null,
+      return { ...reportOf(req.mode, sniffed, '', 0, tally), validRows: 0 };
     };
-    if (pass1.rows === 0) throw new AppError('validation_failed', 'The file has a header but no rows');
+    const facts = await fileFacts(req.filePath);
     const committedBefore: { id: string }[] = await ctx.ds.query(
       `SELECT id FROM import_batch WHERE study_id = $1 AND file_sha256 = $2 AND status = 'committed'`,
-      [req.studyId, pass1.sha256],
+      [req.studyId, facts.sha256],
     );
-    if (committedBefore[0]) {
-      report.alreadyImported = true;
-      report.batchId = committedBefore[0].id;
-      report.skippedExisting = pass1.rows;
-    }
-    if (req.mode === 'preview' || errors.length || report.alreadyImported) {
-      progress('done', pass1.rows, pass1.rows);
+
+    if (req.mode === 'preview' || committedBefore[0]) {
+      // Check every row and keep nothing but the errors (memory stays flat for large files).
+      progress('validating', 0, null);
+      const tally = newTally();
+      const rc = contextOf(design);
+      const known = await existingKeys(ctx.ds, req.studyId);
+      let processed = 0;
+      const pass = await streamRowsOrHeaderStop(req.filePath, sniffed, onHeader(design, tally), async (rows, first) => {
+        checkBatch(rc, tally, known, rows, first);
+        processed += rows.length;
+        progress('validating', processed, null);
+      });
+      if (!pass) return headerFailed(tally);
+      if (pass.rows === 0) throw new AppError('validation_failed', 'The file has a header but no rows');
+      const report = reportOf(req.mode, sniffed, pass.sha256, pass.rows, tally);
+      if (committedBefore[0]) {
+        report.alreadyImported = true;
+        report.batchId = committedBefore[0].id;
+        report.skippedExisting = pass.rows;
+      }
+      progress('done', pass.rows, pass.rows);
       return report;
     }
 
-    // Pass 2: the whole file in one transaction, allocated in file order.
-    const total = pass1.rows;
-    progress('writing', 0, total);
-    const result = await inTransaction(ctx.ds, async (tx) => {
-      const lockedDesign = await loadDesign(tx, req.studyId, { lock: true });
-      if (lockedDesign.designVersion !== design.designVersion) throw new AppError('conflict', 'The study design changed during the import; upload again');
-      const batch: { id: string }[] = await tx.query(
-        `INSERT INTO import_batch (study_id, file_sha256, original_name, row_count, status, created_by, committed_at)
-         VALUES ($1, $2, $3, $4, 'committed', $5, now()) ON CONFLICT DO NOTHING RETURNING id`,
-        [req.studyId, pass1.sha256, req.originalName, total, req.actor.userId],
-      );
-      if (!batch[0]) return null; // committed concurrently by another request
-      const keys = await existingKeys(tx, req.studyId);
-      let imported = 0;
-      let skippedNow = 0;
-      let written = 0;
-      // Pipeline: while one batch is being written, the next is parsed and validated (CPU and
-      // database overlap on two cores). Writes stay strictly in file order, one at a time.
-      let writing: Promise<void> = Promise.resolve();
-      await streamRowsSettled(() => writing, () => streamRows(
-        req.filePath,
-        sniffed,
-        () => undefined,
-        async (rows, first) => {
-          const enroll: ValidEnrollment[] = [];
-          const screened: Extract<ParsedRow, { kind: 'screen' }>[] = [];
-          rows.forEach((cells, j) => {
-            const rowErrors: RowError[] = [];
-            const parsed = parseRow({ ...rc, design: lockedDesign, columns: columns! }, cells, first + j, rowErrors);
-            if (!parsed) throw new AppError('conflict', `Row ${first + j} no longer validates; nothing was imported`, { rowErrors });
-            if (keys.has(parsed.importKey)) {
-              skippedNow++;
-              return;
-            }
-            keys.add(parsed.importKey);
-            if (parsed.kind === 'enroll') enroll.push(parsed.value);
-            else screened.push(parsed);
-          });
+    // Commit: one pass, inside one transaction, allocated in file order.
+    const estimate = Math.max(1, facts.lineBreaks - 1);
+    progress('writing', 0, estimate);
+    const tally = newTally();
+    try {
+      const result = await inTransaction(ctx.ds, async (tx) => {
+        const lockedDesign = await loadDesign(tx, req.studyId, { lock: true });
+        if (!lockedDesign.allocation) throw new AppError('precondition_failed', 'The study design is not complete yet');
+        const batch: { id: string }[] = await tx.query(
+          `INSERT INTO import_batch (study_id, file_sha256, original_name, row_count, status, created_by, committed_at)
+           VALUES ($1, $2, $3, 0, 'committed', $4, now()) ON CONFLICT DO NOTHING RETURNING id`,
+          [req.studyId, facts.sha256, req.originalName, req.actor.userId],
+        );
+        if (!batch[0]) return null; // committed concurrently by another request
+        const rc = contextOf(lockedDesign);
+        const keys = await existingKeys(tx, req.studyId);
+        let imported = 0;
+        let checked = 0;
+        // Pipeline: while one batch is being written, the next is parsed and checked (CPU and
+        // database overlap on two cores). Writes stay strictly in file order, one at a time.
+        let writing: Promise<void> = Promise.resolve();
+        const pass = await streamRowsSettled(() => writing, () => streamRowsOrHeaderStop(req.filePath, sniffed, onHeader(lockedDesign, tally), async (rows, first) => {
+          const { enroll, screened } = checkBatch(rc, tally, keys, rows, first);
+          checked += rows.length;
+          if (tally.errors.length) {
+            progress('validating', checked, Math.max(estimate, checked));
+            return;
+          }
           const previous = writing;
           writing = (async () => {
             await previous;
             if (enroll.length) await enrollValidated(tx, ctx, lockedDesign, req.actor, enroll, { auditMode: 'batch', skipJob: true });
             if (screened.length) await writeScreened(tx, lockedDesign, req.actor, screened);
             imported += enroll.length + screened.length;
-            written += rows.length;
-            progress('writing', written, total);
+            progress('writing', first - 2 + rows.length, Math.max(estimate, checked));
           })();
           // Failures surface through the awaits below; this only keeps them from counting as unhandled meanwhile.
           writing.catch(() => undefined);
           // Let at most one batch wait behind the one being written (bounded memory).
           await previous;
-        },
-      ));
-      await writing;
-      await ctx.jobs.send(tx, 'balance.recompute', { studyId: req.studyId, reason: 'participants imported' }, { singletonKey: req.studyId });
-      await appendAudit(tx, req.actor, [
-        {
-          action: 'import.committed',
-          entityType: 'import_batch',
-          entityId: batch[0].id,
-          studyId: req.studyId,
-          after: { fileSha256: pass1.sha256, originalName: req.originalName, rows: total, imported, skippedExisting: skippedNow },
-        },
-      ]);
-      return { batchId: batch[0].id, imported, skippedNow };
-    });
-    if (!result) {
-      report.alreadyImported = true;
-      report.skippedExisting = total;
-    } else {
-      report.batchId = result.batchId;
-      report.imported = result.imported;
-      report.skippedExisting = result.skippedNow;
+        }));
+        await writing;
+        if (!pass) throw new ImportRejected(headerFailed(tally));
+        if (pass.rows === 0) throw new AppError('validation_failed', 'The file has a header but no rows');
+        const report = reportOf(req.mode, sniffed, pass.sha256, pass.rows, tally);
+        if (tally.errors.length) throw new ImportRejected(report);
+        await tx.query(`UPDATE import_batch SET row_count = $2 WHERE id = $1`, [batch[0].id, pass.rows]);
+        await ctx.jobs.send(tx, 'balance.recompute', { studyId: req.studyId, reason: 'participants imported' }, { singletonKey: req.studyId });
+        await appendAudit(tx, req.actor, [
+          {
+            action: 'import.committed',
+            entityType: 'import_batch',
+            entityId: batch[0].id,
+            studyId: req.studyId,
+            after: { fileSha256: pass.sha256, originalName: req.originalName, rows: pass.rows, imported, skippedExisting: tally.skipped },
+          },
+        ]);
+        return { ...report, batchId: batch[0].id, imported };
+      });
+      if (!result) {
+        // Another request committed the same file meanwhile.
+        const report = reportOf(req.mode, sniffed, facts.sha256, estimate, tally);
+        report.alreadyImported = true;
+        report.skippedExisting = report.rowCount;
+        progress('done', report.rowCount, report.rowCount);
+        return report;
+      }
+      progress('done', result.rowCount, result.rowCount);
+      return result;
+    } catch (err) {
+      if (!(err instanceof ImportRejected)) throw err;
+      if (err.report.rowCount) progress('done', err.report.rowCount, err.report.rowCount);
+      return err.report;
     }
-    progress('done', total, total);
-    return report;
   } catch (err) {
     progress('failed', 0, null);
     throw err;

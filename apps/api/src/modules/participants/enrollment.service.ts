@@ -154,11 +154,15 @@ async function insertParticipants(tx: EntityManager, design: StudyDesign, items:
            INSERT INTO participant (study_id, site_id, code, status, screened_at, enrolled_at, consent_date, consent_version, exposure_arm_id, import_key)
            SELECT $1, s, c, 'enrolled', e, e, cd, cv, x, k FROM input
            ON CONFLICT (study_id, code) DO NOTHING RETURNING id, code
+         ), fresh AS (
+           -- Every value below belongs to a participant this statement inserts: the balance log's
+           -- trigger then skips them (the participant's own change row covers them) and clears this.
+           SELECT set_config('counterpoise.values_of_new_participants', 'on', true) AS flag
          ), b AS (
            INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on)
            SELECT p.id, v.cov, v.num, v.txt, v.d
              FROM unnest($9::int[], $10::uuid[], $11::float8[], $12::text[], $13::date[]) AS v(ord, cov, num, txt, d)
-             JOIN input ON input.ord = v.ord JOIN p ON p.code = input.c
+             JOIN input ON input.ord = v.ord JOIN p ON p.code = input.c CROSS JOIN fresh
          )
          SELECT id, code FROM p`,
         [

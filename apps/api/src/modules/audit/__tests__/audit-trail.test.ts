@@ -154,7 +154,7 @@ describe('hash chain', () => {
       const many = SEAL_AT_COMMIT_MAX + 3;
       await inTransaction(t4.ctx.ds, (tx) => appendAudit(tx, actor, [{ action: 'test.small', entityType: 'test', before: { a: 1.5, b: [true, null] } }]));
       await inTransaction(t4.ctx.ds, (tx) =>
-        appendAudit(tx, actor, Array.from({ length: many }, (_, i) => ({ action: 'test.large', entityType: 'test', entityId: String(i) }))),
+        appendAudit(tx, actor, Array.from({ length: many }, (_, i) => ({ action: 'test.large', entityType: 'test', entityId: String(i), after: { i, third: i / 3, nested: { b: [true, null], s: 'ünï "q"' } } }))),
       );
       // Both paths in one transaction: the large batch is linked first, the small one at commit.
       await inTransaction(t4.ctx.ds, async (tx) => {

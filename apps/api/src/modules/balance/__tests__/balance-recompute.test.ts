@@ -214,6 +214,56 @@ describe('balance.recompute job', () => {
     });
   });
 
+  it('when participants and their values are inserted by one flagged statement, then their values are not logged one by one, the flag is cleared for the next statement, and the incremental snapshot still equals the stored rows', async () => {
+    const study = await createBalanceStudy(t, { sites: ['S1', 'S2'], covariates: COVS });
+    const r = rng(20261202);
+    const ids = await enroll(t, study, Array.from({ length: 30 }, () => person(r, 2, 2)));
+    await enqueue(t, study.id, 'import');
+    await runJob(t, { studyId: study.id, reason: 'import' });
+    const existing = ids[0]!;
+    const logged = await t.ctx.ds.transaction(async (tx) => {
+      // The shape of the enrollment statement: participants and their values together, flagged.
+      const [fresh] = (await tx.query(
+        `WITH p AS (
+           INSERT INTO participant (study_id, site_id, code, status, enrolled_at) VALUES ($1, $2, 'FLAGGED-1', 'enrolled', now()) RETURNING id
+         ), flag AS (SELECT set_config('counterpoise.values_of_new_participants', 'on', true) AS on)
+         , a AS (INSERT INTO allocation (participant_id, study_id, arm_id, stratum_key, position, kit_code, algorithm, algorithm_version, design_version)
+                 SELECT p.id, $1, $3, 'flagged', 1, 'K-FLAGGED-1', 'test', '1', 1 FROM p)
+         , b AS (INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on)
+                 SELECT p.id, v.cov, v.num, v.txt, current_date FROM p CROSS JOIN flag
+                   CROSS JOIN unnest($4::uuid[], $5::float8[], $6::text[]) AS v(cov, num, txt))
+         SELECT id FROM p`,
+        [study.id, study.siteIds[1], study.armIds[1], study.covariates.map((c) => c.id), [71, 2.2, 1, null], [null, null, null, 'east']],
+      )) as [{ id: string }];
+      // A later statement in the same transaction: a value for a participant counted before.
+      await tx.query(
+        `UPDATE baseline_value SET value_number = value_number + 5, updated_at = now() WHERE participant_id = $1 AND covariate_id = $2`,
+        [existing, study.covariates[0]!.id],
+      );
+      await tx.query(
+        `INSERT INTO baseline_value (participant_id, covariate_id, value_number, value_text, measured_on) VALUES ($1, $2, 3.3, NULL, current_date)
+         ON CONFLICT (participant_id, covariate_id) DO UPDATE SET value_number = EXCLUDED.value_number`,
+        [existing, study.covariates[1]!.id],
+      );
+      const [flag] = (await tx.query(`SELECT current_setting('counterpoise.values_of_new_participants', true) AS v`)) as [{ v: string }];
+      const rowsLogged = (await tx.query(
+        `SELECT participant_id, source FROM balance_change WHERE study_id = $1 ORDER BY id`,
+        [study.id],
+      )) as { participant_id: string; source: string }[];
+      return { fresh: fresh.id, flag: flag.v, rowsLogged };
+    });
+    expect(logged.flag).toBe('off');
+    const forFresh = logged.rowsLogged.filter((x) => x.participant_id === logged.fresh).map((x) => x.source);
+    expect(forFresh.sort()).toEqual(['allocation', 'participant']);
+    expect(logged.rowsLogged.filter((x) => x.participant_id === existing).map((x) => x.source)).toEqual(['baseline', 'baseline']);
+    await runJob(t, { studyId: study.id, reason: 'change' });
+    const snap = await latest(t, study);
+    expect(snap.kind).toBe('incremental');
+    const stored = await readCounted(t, study);
+    expect(stored).toHaveLength(31);
+    expect(checkScope(study, snap.body, stored, true, 'flagged overall')).toBeGreaterThanOrEqual(COVS.length);
+  });
+
   it('when the design changes (a new version with a new covariate), then the next run rebuilds from all rows and includes the covariate', async () => {
     const study = await createBalanceStudy(t, { sites: ['S1', 'S2'], covariates: COVS });
     const r = rng(12);
