@@ -22,6 +22,8 @@ const envSchema = z
     DB_APP_USER: z.string().min(1).default('counterpoise_app'),
     DB_APP_PASSWORD: z.string().min(1).default('app-local-only'),
     DB_POOL_SIZE: z.coerce.number().int().min(1).max(200).default(20),
+    /** API processes sharing PORT (node:cluster); each has its own pool of DB_POOL_SIZE. */
+    API_PROCESSES: z.coerce.number().int().min(1).max(64).default(1),
     JWT_SECRET: z.string().optional(),
     SESSION_TTL_MINUTES: z.coerce.number().int().min(5).max(7 * 24 * 60).default(480),
     SIGN_IN_MAX_FAILURES: z.coerce.number().int().min(1).max(1000).default(5),

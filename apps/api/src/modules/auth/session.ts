@@ -64,10 +64,15 @@ type SessionRow = {
  */
 const SESSION_CACHE_MS = 2000;
 const sessionCache = new Map<string, { actor: Actor; until: number }>();
+/** Bumped by forgetSessions: a lookup that started before it does not cache what it read. */
+let generation = 0;
+const sessionLookups = new Map<string, Promise<Actor | null>>();
 
 /** Called after any change that ends sessions, so this process never serves a revoked one. */
 export function forgetSessions(): void {
   sessionCache.clear();
+  sessionLookups.clear();
+  generation++;
 }
 
 /**
@@ -84,43 +89,62 @@ export function sessionMiddleware(ctx: AppContext): RequestHandler {
       req.actor = hit.actor;
       return next();
     }
-    let sid: string;
-    let sub: string;
-    try {
-      const { payload } = await jwtVerify(token, key(ctx.env.JWT_SECRET), { issuer: ISSUER, algorithms: ['HS256'] });
-      if (typeof payload.sid !== 'string' || typeof payload.sub !== 'string') return next();
-      sid = payload.sid;
-      sub = payload.sub;
-    } catch {
-      return next();
+    // One lookup per token at a time: requests that arrive while it runs share its answer
+    // (a dashboard's parallel requests would otherwise all query when the cached entry ends).
+    let lookup = sessionLookups.get(token);
+    if (!lookup) {
+      const started = lookUpSession(ctx, token).finally(() => {
+        if (sessionLookups.get(token) === started) sessionLookups.delete(token);
+      });
+      lookup = started;
+      sessionLookups.set(token, started);
     }
-    const rows: SessionRow[] = await ctx.ds.query(
-      `SELECT s.id AS session_id, s.csrf_token, s.expires_at, u.id AS user_id, u.email, u.display_name, u.is_admin,
-              COALESCE((SELECT json_agg(json_build_object('studyId', m.study_id, 'studyCode', st.code,
-                         'role', m.role, 'siteIds', m.site_ids) ORDER BY st.code, m.role)
-                  FROM membership m JOIN study st ON st.id = m.study_id WHERE m.user_id = u.id), '[]') AS memberships
-         FROM user_session s JOIN app_user u ON u.id = s.user_id
-        WHERE s.id = $1 AND s.user_id = $2 AND s.revoked_at IS NULL AND s.expires_at > now() AND u.status = 'active'`,
-      [sid, sub],
-    );
-    const row = rows[0];
-    if (row) {
-      const actor: Actor = {
-        userId: row.user_id,
-        email: row.email,
-        displayName: row.display_name,
-        isAdmin: row.is_admin,
-        sessionId: row.session_id,
-        csrfToken: row.csrf_token,
-        sessionExpiresAt: new Date(row.expires_at),
-        memberships: row.memberships,
-      };
-      req.actor = actor;
-      if (sessionCache.size > 10_000) sessionCache.clear();
-      sessionCache.set(token, { actor, until: now + SESSION_CACHE_MS });
-    }
+    const actor = await lookup;
+    if (actor) req.actor = actor;
     next();
   };
+}
+
+async function lookUpSession(ctx: AppContext, token: string): Promise<Actor | null> {
+  const now = Date.now();
+  const startedIn = generation;
+  let sid: string;
+  let sub: string;
+  try {
+    const { payload } = await jwtVerify(token, key(ctx.env.JWT_SECRET), { issuer: ISSUER, algorithms: ['HS256'] });
+    if (typeof payload.sid !== 'string' || typeof payload.sub !== 'string') return null;
+    sid = payload.sid;
+    sub = payload.sub;
+  } catch {
+    return null;
+  }
+  const rows: SessionRow[] = await ctx.ds.query(
+    `SELECT s.id AS session_id, s.csrf_token, s.expires_at, u.id AS user_id, u.email, u.display_name, u.is_admin,
+            COALESCE((SELECT json_agg(json_build_object('studyId', m.study_id, 'studyCode', st.code,
+                       'role', m.role, 'siteIds', m.site_ids) ORDER BY st.code, m.role)
+                FROM membership m JOIN study st ON st.id = m.study_id WHERE m.user_id = u.id), '[]') AS memberships
+       FROM user_session s JOIN app_user u ON u.id = s.user_id
+      WHERE s.id = $1 AND s.user_id = $2 AND s.revoked_at IS NULL AND s.expires_at > now() AND u.status = 'active'`,
+    [sid, sub],
+  );
+  const row = rows[0];
+  if (!row) return null;
+  const actor: Actor = {
+    userId: row.user_id,
+    email: row.email,
+    displayName: row.display_name,
+    isAdmin: row.is_admin,
+    sessionId: row.session_id,
+    csrfToken: row.csrf_token,
+    sessionExpiresAt: new Date(row.expires_at),
+    memberships: row.memberships,
+  };
+  // A lookup that started before forgetSessions() ran must not put the old answer back.
+  if (generation === startedIn) {
+    if (sessionCache.size > 10_000) sessionCache.clear();
+    sessionCache.set(token, { actor, until: now + SESSION_CACHE_MS });
+  }
+  return actor;
 }
 
 const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);

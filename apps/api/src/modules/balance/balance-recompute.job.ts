@@ -106,10 +106,14 @@ export async function recomputeBalance(
     opts.log?.warn({ err, studyId: payload.studyId }, 'balance accumulators out of step; rebuilding from all rows');
     outcome = await runInTransaction(ctx, payload, true, opts);
   }
+  // What a dashboard waits for: the snapshot committed. Alert e-mail is sent after it.
+  const committed = performance.now();
   await opts.hooks?.beforeMail?.();
   const config = await loadStudyConfig(ctx.ds, payload.studyId);
   const mailsSent = config ? await sendPendingNotifications(ctx, ctx.ds, config, opts.log) : 0;
   if (!outcome) return null;
+  outcome.timings.committed = Math.round((committed - started) * 10) / 10;
+  outcome.timings.mail = Math.round((performance.now() - committed) * 10) / 10;
   outcome.timings.total = Math.round((performance.now() - started) * 10) / 10;
   opts.log?.info({ ...outcome, mailsSent, studyId: payload.studyId }, 'balance recomputed');
   return { ...outcome, mailsSent };

@@ -45,18 +45,33 @@ const heads = new Map<string, { at: number; head: SnapshotHead }>();
 /** Forgets the cached head (after this process queued a job or wrote a snapshot). */
 export function forgetHead(studyId: string): void {
   heads.delete(studyId);
+  headLookups.delete(studyId);
 }
 
-/** latestHead, reused for HEAD_TTL_MS. */
+const headLookups = new Map<string, Promise<SnapshotHead | null>>();
+
+/** latestHead, reused for HEAD_TTL_MS; concurrent requests share one lookup. */
 export async function latestHeadCached(db: Queryable, studyId: string): Promise<SnapshotHead | null> {
   const hit = heads.get(studyId);
   if (hit && performance.now() - hit.at < HEAD_TTL_MS) return hit.head;
-  const head = await latestHead(db, studyId);
-  if (head) {
-    if (heads.size > 1000) heads.clear();
-    heads.set(studyId, { at: performance.now(), head });
+  let lookup = headLookups.get(studyId);
+  if (!lookup) {
+    const started = latestHead(db, studyId)
+      .then((head) => {
+        // Not if forgetHead ran meanwhile (this process queued a job or wrote a snapshot).
+        if (head && headLookups.get(studyId) === started) {
+          if (heads.size > 1000) heads.clear();
+          heads.set(studyId, { at: performance.now(), head });
+        }
+        return head;
+      })
+      .finally(() => {
+        if (headLookups.get(studyId) === started) headLookups.delete(studyId);
+      });
+    lookup = started;
+    headLookups.set(studyId, started);
   }
-  return head;
+  return lookup;
 }
 
 /** The latest snapshot's id and time, and whether a recompute is pending, in one round trip. */
