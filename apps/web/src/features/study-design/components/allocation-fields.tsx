@@ -286,7 +286,8 @@ export function StrataPlanPanel({ study }: { study: StudyDetail }) {
         )}
         {preview && (
           <p className="text-sm text-graphite" aria-live="polite">
-            With the values on this page: <span className="figure">{preview.strata}</span> strata × block size{' '}
+            With the values on this page: <span className="figure">{preview.strata}</span>{' '}
+            {preview.strata === 1 ? 'stratum' : 'strata'} × block size{' '}
             <span className="figure">{preview.maxBlock}</span> / 2 ={' '}
             <span className="figure font-semibold text-ink">{preview.bound}</span> participants of possible
             imbalance, against a target of <span className="figure">{draft.targetSampleSize}</span>. The

@@ -47,6 +47,9 @@ export function ArmsFields({ hidden, locked }: { hidden: boolean; locked: boolea
               </p>
             )}
             <ListError node={errors.arms} />
+            {arms.fields.length === 0 && (
+              <p className="text-sm text-graphite">No arms yet. Add at least two with Add arm.</p>
+            )}
             {arms.fields.map((field, i) => (
               <fieldset key={field.id} className="grid items-start gap-3 sm:grid-cols-[8rem_1fr_6rem_auto]">
                 <legend className="sr-only">Arm {i + 1}</legend>
@@ -114,6 +117,9 @@ export function SitesFields() {
       />
       <CardBody className="flex flex-col gap-3">
         <ListError node={errors.sites} />
+        {sites.fields.length === 0 && (
+          <p className="text-sm text-graphite">No sites yet. Add each site that will enroll with Add site.</p>
+        )}
         {sites.fields.map((field, i) => (
           <fieldset key={field.id} className="grid items-start gap-3 sm:grid-cols-[8rem_1fr_8rem_9rem_auto]">
             <legend className="sr-only">Site {i + 1}</legend>
