@@ -4,6 +4,7 @@ import { entities } from './entities.js';
 import { BulkIntegrity1765065600000 } from './migrations/1765065600000-bulk-integrity.js';
 import { AuditCommitSeal1765152000000 } from './migrations/1765152000000-audit-commit-seal.js';
 import { BalanceLogNewParticipants1765152000001 } from './migrations/1765152000001-balance-log-new-participants.js';
+import { DropSnapshotSite1765152000002 } from './migrations/1765152000002-drop-snapshot-site.js';
 import { Digest1764892800000 } from './migrations/1764892800000-digest.js';
 import { Foundation1764633600000 } from './migrations/1764633600000-foundation.js';
 import { Balance1764720000000 } from './migrations/1764720000000-balance.js';
@@ -12,7 +13,7 @@ import { BalanceSnapshotJson1764979200000 } from './migrations/1764979200000-bal
 import { BalanceChangeAutovacuum1764979200001 } from './migrations/1764979200001-balance-change-autovacuum.js';
 
 /** Every migration, in order. Add new ones at the end; never edit a merged one. */
-export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000, BalanceChangeAutovacuum1764979200001, BulkIntegrity1765065600000, AuditCommitSeal1765152000000, BalanceLogNewParticipants1765152000001];
+export const migrations = [Foundation1764633600000, Balance1764720000000, Analysis1764806400000, Digest1764892800000, BalanceSnapshotJson1764979200000, BalanceChangeAutovacuum1764979200001, BulkIntegrity1765065600000, AuditCommitSeal1765152000000, BalanceLogNewParticipants1765152000001, DropSnapshotSite1765152000002];
 
 type DbRole = 'app' | 'owner';
 
