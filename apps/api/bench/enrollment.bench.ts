@@ -295,25 +295,21 @@ async function main() {
   server = await startServer();
   const auth2 = await signIn('coord@bench.local');
   const rssBeforeKb = rssPeakKb(server.pid!);
+  const upload = async (mode: 'preview' | 'commit') => {
+    const form = new FormData();
+    form.append('file', await fs.openAsBlob(csvPath, { type: 'text/csv' }), 'bench.csv');
+    return fetch(`http://127.0.0.1:${PORT}/api/studies/${importStudy.studyId}/participants/import?mode=${mode}`, {
+      method: 'POST',
+      headers: { cookie: auth2.cookie, 'x-csrf-token': auth2.csrf },
+      body: form,
+    });
+  };
   // The preview (validation only, nothing written) first: how much of the commit is the checking.
-  const previewForm = new FormData();
-  previewForm.append('file', await fs.openAsBlob(csvPath, { type: 'text/csv' }), 'bench.csv');
   const tp = performance.now();
-  const preview = await fetch(`http://127.0.0.1:${PORT}/api/studies/${importStudy.studyId}/participants/import?mode=preview`, {
-    method: 'POST',
-    headers: { cookie: auth2.cookie, 'x-csrf-token': auth2.csrf },
-    body: previewForm,
-  });
-  await preview.arrayBuffer();
+  await (await upload('preview')).arrayBuffer();
   const previewSeconds = (performance.now() - tp) / 1000;
-  const form = new FormData();
-  form.append('file', await fs.openAsBlob(csvPath, { type: 'text/csv' }), 'bench.csv');
   const t0 = performance.now();
-  const res = await fetch(`http://127.0.0.1:${PORT}/api/studies/${importStudy.studyId}/participants/import?mode=commit`, {
-    method: 'POST',
-    headers: { cookie: auth2.cookie, 'x-csrf-token': auth2.csrf },
-    body: form,
-  });
+  const res = await upload('commit');
   const body = (await res.json()) as { report?: { imported: number; rowCount: number }; error?: unknown };
   const seconds = (performance.now() - t0) / 1000;
   const peakKb = rssPeakKb(server.pid!);
