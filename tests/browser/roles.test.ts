@@ -15,6 +15,7 @@ const topNavLabels = ['Studies', 'Audit trail', 'Users', 'Outbox'] as const;
 const studyTabLabels = [
   'Overview',
   'Participants',
+  'Outcomes',
   'Balance',
   'Alerts',
   'Analysis',
@@ -39,13 +40,13 @@ const cases: RoleCase[] = [
   {
     role: 'coordinator',
     topNav: ['Studies'],
-    studyTabs: ['Overview', 'Participants'],
+    studyTabs: ['Overview', 'Participants', 'Outcomes'],
     mayManageUsers: false,
   },
   {
     role: 'statistician',
     topNav: ['Studies', 'Audit trail'],
-    studyTabs: ['Overview', 'Participants', 'Balance', 'Alerts', 'Analysis', 'Design', 'Audit'],
+    studyTabs: ['Overview', 'Participants', 'Outcomes', 'Balance', 'Alerts', 'Analysis', 'Design', 'Audit'],
     mayManageUsers: false,
   },
   { role: 'sponsor', topNav: ['Studies'], studyTabs: ['Overview'], mayManageUsers: false },

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { reasonSchema } from './common.js';
+import { isCalendarDate } from './participants.js';
 
 /**
  * Analysis at the end of a study: outcome values, the pre-specified ANCOVA (versioned, locked
@@ -156,10 +157,12 @@ export type SpecResponse = z.infer<typeof specResponseSchema>;
 // ---------- Outcomes ----------
 
 export const outcomeRowSchema = z.object({
-  participantCode: z.string().trim().min(1).max(60),
-  value: z.number().refine(Number.isFinite, 'Must be a finite number'),
-  measuredOn: isoDate,
+  participantCode: z.string().trim().min(1, 'Enter the participant code').max(60, 'A participant code has at most 60 characters'),
+  value: z.number({ message: 'Enter the value as a number' }).refine(Number.isFinite, 'Must be a finite number'),
+  // A real calendar day: PostgreSQL would refuse 2026-02-30 with a server error.
+  measuredOn: isoDate.refine(isCalendarDate, { message: 'Not a real calendar date' }),
 });
+export type OutcomeRow = z.infer<typeof outcomeRowSchema>;
 
 export const outcomesPutBodySchema = z.object({
   outcomeKey: keySchema,
@@ -177,6 +180,29 @@ export const outcomesPutResponseSchema = z.object({
   note: z.string(),
 });
 export type OutcomesPutResponse = z.infer<typeof outcomesPutResponseSchema>;
+
+/**
+ * What the same rows would do, from `POST .../outcomes/check`: every row is checked as a PUT
+ * would check it and nothing is written. `corrected` > 0 means the PUT will need a reason.
+ */
+export const outcomesCheckResponseSchema = outcomesPutResponseSchema;
+export type OutcomesCheckResponse = OutcomesPutResponse;
+
+/**
+ * What outcome entry needs to know, for everyone who may record outcomes (site staff see their
+ * own sites only): the outcome the current specification names, and how complete it is.
+ * Nothing here depends on an arm.
+ */
+export const outcomesOverviewSchema = z.object({
+  /** Named by the current specification version; null while the study has no specification. */
+  outcome: z.object({ key: z.string(), label: z.string(), unit: z.string().nullable() }).nullable(),
+  specVersion: z.number().int().nullable(),
+  specStatus: z.enum(['draft', 'locked']).nullable(),
+  /** For site staff, only their own sites (and totals over them). */
+  completeness: completenessSchema.nullable(),
+  note: z.string(),
+});
+export type OutcomesOverview = z.infer<typeof outcomesOverviewSchema>;
 
 // ---------- Runs ----------
 

@@ -20,6 +20,7 @@ import { StudyDesignRoute } from './routes/study/study-design.js';
 import { StudyEnrollRoute } from './routes/study/study-enroll.js';
 import { StudyImportRoute } from './routes/study/study-import.js';
 import { StudyLayout } from './routes/study/study-layout.js';
+import { StudyOutcomesRoute } from './routes/study/study-outcomes.js';
 import { StudyOverviewRoute } from './routes/study/study-overview.js';
 import { StudyParticipantRoute } from './routes/study/study-participant.js';
 import { StudyParticipantsRoute } from './routes/study/study-participants.js';
@@ -52,6 +53,7 @@ export const router = createBrowserRouter([
               { path: paths.participants.enroll.path, element: <StudyEnrollRoute /> },
               { path: paths.participants.import.path, element: <StudyImportRoute /> },
               { path: paths.participants.detail.path, element: <StudyParticipantRoute /> },
+              { path: 'outcomes', element: <StudyOutcomesRoute /> },
               { path: 'balance', element: <StudyBalanceRoute /> },
               { path: 'alerts', element: <StudyAlertsRoute /> },
               { path: 'analysis', element: <StudyAnalysisRoute /> },

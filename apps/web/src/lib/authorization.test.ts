@@ -40,11 +40,15 @@ describe('studyTabsFor', () => {
   });
 
   it.each([
-    ['coordinator', me({ memberships: [membership(studyA, 'coordinator')] }), ['overview', 'participants']],
+    [
+      'coordinator',
+      me({ memberships: [membership(studyA, 'coordinator')] }),
+      ['overview', 'participants', 'outcomes'],
+    ],
     [
       'statistician',
       me({ memberships: [membership(studyA, 'statistician')] }),
-      ['overview', 'participants', 'balance', 'alerts', 'analysis', 'design', 'audit'],
+      ['overview', 'participants', 'outcomes', 'balance', 'alerts', 'analysis', 'design', 'audit'],
     ],
     ['sponsor', me({ memberships: [membership(studyA, 'sponsor')] }), ['overview']],
     ['auditor', me({ memberships: [membership(studyA, 'auditor')] }), ['overview', 'participants', 'audit']],

@@ -33,11 +33,12 @@ export function canCreateStudy(me: Pick<Me, 'isAdmin' | 'memberships'>): boolean
   return me.isAdmin || me.memberships.some((m) => m.role === 'statistician');
 }
 
-export type StudyTab = 'overview' | 'participants' | 'balance' | 'alerts' | 'analysis' | 'design' | 'audit';
+export type StudyTab = 'overview' | 'participants' | 'outcomes' | 'balance' | 'alerts' | 'analysis' | 'design' | 'audit';
 
 export const studyTabOrder: readonly StudyTab[] = [
   'overview',
   'participants',
+  'outcomes',
   'balance',
   'alerts',
   'analysis',
@@ -49,6 +50,8 @@ export const studyTabOrder: readonly StudyTab[] = [
 const studyTabRoles: Record<StudyTab, readonly Role[]> = {
   overview: ['admin', 'coordinator', 'statistician', 'sponsor', 'auditor'],
   participants: ['coordinator', 'statistician', 'auditor'],
+  // Policy `outcome.write`: coordinators (own sites) and the statistician. Blinded staff can use it.
+  outcomes: ['coordinator', 'statistician'],
   balance: ['statistician'],
   alerts: ['statistician'],
   analysis: ['statistician'],

@@ -43,6 +43,10 @@ describe('outcomesPutBodySchema and runBodySchema', () => {
     ['an infinite value', { outcomeKey: 'six_mwd_wk12', rows: [{ ...row, value: Number.POSITIVE_INFINITY }] }, false],
     ['a date in another format', { outcomeKey: 'six_mwd_wk12', rows: [{ ...row, measuredOn: '01/03/2026' }] }, false],
     ['a too-short reason', { outcomeKey: 'six_mwd_wk12', rows: [row], reason: 'x' }, false],
+    ['30 February', { outcomeKey: 'six_mwd_wk12', rows: [{ ...row, measuredOn: '2026-02-30' }] }, false],
+    ['29 February of a leap year', { outcomeKey: 'six_mwd_wk12', rows: [{ ...row, measuredOn: '2028-02-29' }] }, true],
+    ['a blank participant code', { outcomeKey: 'six_mwd_wk12', rows: [{ ...row, participantCode: '  ' }] }, false],
+    ['a value sent as text', { outcomeKey: 'six_mwd_wk12', rows: [{ ...row, value: '412' }] }, false],
   ])('%s → valid: %s', (_name, input, ok) => {
     expect(outcomesPutBodySchema.safeParse(input).success).toBe(ok);
   });

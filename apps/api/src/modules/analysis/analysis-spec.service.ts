@@ -80,15 +80,16 @@ function canonical(v: unknown): string {
 export const specContentHash = (studyId: string, version: number, spec: AnalysisSpec) =>
   createHash('sha256').update(canonical({ studyId, version, spec })).digest('hex');
 
-async function completeness(q: Queryable, studyId: string, outcomeKey: string): Promise<Completeness> {
+/** Outcomes recorded of the analysis population, by site; `siteIds` limits it to those sites (site staff). */
+export async function completeness(q: Queryable, studyId: string, outcomeKey: string, siteIds: string[] | null = null): Promise<Completeness> {
   const rows: { site_code: string; site_name: string; eligible: number; recorded: number }[] = await q.query(
     `SELECT s.code AS site_code, s.name AS site_name, count(p.id)::int AS eligible, count(o.participant_id)::int AS recorded
        FROM site s
        LEFT JOIN participant p ON p.site_id = s.id AND p.status IN ${ITT_STATUSES}
        LEFT JOIN outcome_value o ON o.participant_id = p.id AND o.outcome_key = $2
-      WHERE s.study_id = $1
+      WHERE s.study_id = $1 AND ($3::uuid[] IS NULL OR s.id = ANY($3::uuid[]))
       GROUP BY s.code, s.name ORDER BY s.code`,
-    [studyId, outcomeKey],
+    [studyId, outcomeKey, siteIds],
   );
   const eligible = rows.reduce((s, r) => s + r.eligible, 0);
   const recorded = rows.reduce((s, r) => s + r.recorded, 0);

@@ -1,5 +1,7 @@
 import {
   lockBodySchema,
+  outcomesCheckResponseSchema,
+  outcomesOverviewSchema,
   outcomesPutBodySchema,
   outcomesPutResponseSchema,
   runBodySchema,
@@ -40,6 +42,23 @@ registerOperations(
     body: lockBodySchema,
     response: specSaved,
     roles: 'statistician',
+  },
+  {
+    method: 'get',
+    path: '/api/studies/:studyId/outcomes',
+    summary: 'The outcome the current specification names and its completeness (own sites only for site staff); no arm',
+    tag: 'analysis',
+    response: outcomesOverviewSchema,
+    roles: 'coordinator (own sites), statistician',
+  },
+  {
+    method: 'post',
+    path: '/api/studies/:studyId/outcomes/check',
+    summary: 'Check outcome rows as the PUT would and count what it would create, correct or leave unchanged; writes nothing',
+    tag: 'analysis',
+    body: outcomesPutBodySchema,
+    response: outcomesCheckResponseSchema,
+    roles: 'coordinator (own sites), statistician',
   },
   {
     method: 'put',

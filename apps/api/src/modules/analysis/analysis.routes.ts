@@ -6,7 +6,7 @@ import { body, params } from '../../http/validate.js';
 import { authorize, requireActor, roleLabel } from '../policy/policy.js';
 import { createRun, getRun, listRuns } from './analysis-run.service.js';
 import { getSpec, lockSpec, putSpec } from './analysis-spec.service.js';
-import { putOutcomes } from './outcomes.service.js';
+import { outcomesOverview, putOutcomes } from './outcomes.service.js';
 import './analysis.operations.js';
 
 const studyParams = z.object({ studyId: z.uuid() });
@@ -44,6 +44,19 @@ export function analysisRoutes(ctx: AppContext): Router {
     const input = body(req, lockBodySchema);
     const spec = await lockSpec(ctx, requireActor(req), auditActor(req, studyId), studyId, input);
     res.json({ spec, note: analysisNote });
+  });
+
+  r.get('/studies/:studyId/outcomes', async (req, res) => {
+    const { studyId } = params(req, studyParams);
+    const access = authorize(req, studyId, 'outcome.write');
+    res.json(await outcomesOverview(ctx, access, studyId));
+  });
+
+  r.post('/studies/:studyId/outcomes/check', async (req, res) => {
+    const { studyId } = params(req, studyParams);
+    const access = authorize(req, studyId, 'outcome.write');
+    const input = body(req, outcomesPutBodySchema);
+    res.json(await putOutcomes(ctx, auditActor(req, studyId), access, studyId, input, 'check'));
   });
 
   r.put('/studies/:studyId/outcomes', async (req, res) => {

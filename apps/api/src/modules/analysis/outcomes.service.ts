@@ -1,19 +1,47 @@
-import { analysisNote, type OutcomesPutBody, type OutcomesPutResponse } from '@counterpoise/contracts/analysis';
+import { analysisNote, type OutcomesOverview, type OutcomesPutBody, type OutcomesPutResponse } from '@counterpoise/contracts/analysis';
 import { utcToday } from '@counterpoise/contracts/participants';
 import type { AppContext } from '../../app-context.js';
 import { inTransaction } from '../../db/transaction.js';
-import { AppError, forbidden } from '../../http/app-error.js';
+import { AppError } from '../../http/app-error.js';
 import { appendAudit, type AuditActor, type AuditEntry } from '../audit/audit.service.js';
 import type { StudyAccess } from '../policy/policy.js';
+import { completeness } from './analysis-spec.service.js';
+import { specVersions } from './analysis-data.js';
 
 type Issue = { path: string[]; message: string };
+
+/**
+ * What outcome entry shows: the outcome the current specification names and its completeness,
+ * over the reader's own sites when they are site staff. No arm, no model, no values.
+ */
+export async function outcomesOverview(ctx: AppContext, access: StudyAccess, studyId: string): Promise<OutcomesOverview> {
+  const current = (await specVersions(ctx.ds, studyId)).at(-1) ?? null;
+  if (!current) return { outcome: null, specVersion: null, specStatus: null, completeness: null, note: analysisNote };
+  const { key, label, unit } = current.spec.outcome;
+  return {
+    outcome: { key, label, unit },
+    specVersion: current.version,
+    specStatus: current.status,
+    completeness: await completeness(ctx.ds, studyId, key, access.siteIds),
+    note: analysisNote,
+  };
+}
 
 /**
  * Records outcome values in bulk by participant code. New values are entered; a different value
  * or date for one already recorded is a correction and needs a reason; equal rows change nothing.
  * Site staff reach only their own sites. Nothing here carries an arm, so blinded staff can use it.
+ * With `mode: 'check'` every row is checked the same way and the counts say what a PUT would do,
+ * but nothing is written and no reason is asked for (the caller asks for one when `corrected` > 0).
  */
-export async function putOutcomes(ctx: AppContext, actor: AuditActor & { userId: string }, access: StudyAccess, studyId: string, input: OutcomesPutBody): Promise<OutcomesPutResponse> {
+export async function putOutcomes(
+  ctx: AppContext,
+  actor: AuditActor & { userId: string },
+  access: StudyAccess,
+  studyId: string,
+  input: OutcomesPutBody,
+  mode: 'write' | 'check' = 'write',
+): Promise<OutcomesPutResponse> {
   const named: { n: number }[] = await ctx.ds.query(
     `SELECT count(*)::int AS n FROM analysis_spec WHERE study_id = $1 AND spec -> 'outcome' ->> 'key' = $2`,
     [studyId, input.outcomeKey],
@@ -39,8 +67,15 @@ export async function putOutcomes(ctx: AppContext, actor: AuditActor & { userId:
       [studyId, codes],
     );
     const byCode = new Map(people.map((p) => [p.code, p]));
-    if (access.siteIds && people.some((p) => !access.siteIds!.includes(p.site_id))) {
-      throw forbidden('You can only record outcomes of participants of your own site');
+    if (access.siteIds) {
+      // Say which rows, so a file with a stray row of another site can be fixed.
+      const foreign = input.rows.flatMap((r, i) => {
+        const p = byCode.get(r.participantCode);
+        return p && !access.siteIds!.includes(p.site_id)
+          ? [{ path: ['rows', String(i), 'participantCode'], message: `${r.participantCode} is not a participant of your site` }]
+          : [];
+      });
+      if (foreign.length) throw new AppError('forbidden', 'You can only record outcomes of participants of your own site', { issues: foreign });
     }
     const today = utcToday();
     input.rows.forEach((r, i) => {
@@ -72,6 +107,7 @@ export async function putOutcomes(ctx: AppContext, actor: AuditActor & { userId:
       changes.push({ p, value: r.value, measuredOn: r.measuredOn, before: o ? { value: o.value, measuredOn: o.measured_on } : null });
     }
     const corrected = changes.filter((c) => c.before).length;
+    if (mode === 'check') return { outcomeKey: input.outcomeKey, created: changes.length - corrected, corrected, unchanged, note: analysisNote };
     if (corrected > 0 && !input.reason) {
       throw new AppError('validation_failed', `${corrected} row(s) change values already recorded: give a reason for the correction`, {
         issues: [{ path: ['reason'], message: 'A reason is required to correct recorded outcome values' }],

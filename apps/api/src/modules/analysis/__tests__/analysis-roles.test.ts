@@ -70,6 +70,21 @@ const cases: Case[] = [
     writes: true,
   },
   {
+    name: 'GET outcomes',
+    method: 'get',
+    path: () => `/api/studies/${c.studyId}/outcomes`,
+    allowed: { statistician: 200, coordinator: 200, otherCoordinator: 200 },
+    writes: false,
+  },
+  {
+    name: 'POST outcomes/check (a participant of site S1)',
+    method: 'post',
+    path: () => `/api/studies/${c.studyId}/outcomes/check`,
+    body: () => ({ outcomeKey: 'walk_final', rows: [{ participantCode: s1().code, value: 299.5, measuredOn: daysAgo(4) }] }),
+    allowed: { statistician: 200, coordinator: 200 },
+    writes: false,
+  },
+  {
     name: 'POST analysis/runs',
     method: 'post',
     path: () => `/api/studies/${c.studyId}/analysis/runs`,
@@ -102,6 +117,9 @@ describe('analysis routes: role matrix', () => {
           expect(await t.ownerQuery(`SELECT coalesce(string_agg(value::text || measured_on::text, ',' ORDER BY participant_id), '') AS s FROM outcome_value`)).toEqual(outcomesBefore);
         } else if (row.writes) {
           expect(await auditCount(t)).toBeGreaterThan(before);
+        } else {
+          expect(await auditCount(t)).toBe(before);
+          expect(await t.ownerQuery(`SELECT coalesce(string_agg(value::text || measured_on::text, ',' ORDER BY participant_id), '') AS s FROM outcome_value`)).toEqual(outcomesBefore);
         }
       });
     }
@@ -133,6 +151,8 @@ describe('GET /api/openapi.json', () => {
         'get /api/studies/{studyId}/analysis/spec',
         'put /api/studies/{studyId}/analysis/spec',
         'post /api/studies/{studyId}/analysis/spec/lock',
+        'get /api/studies/{studyId}/outcomes',
+        'post /api/studies/{studyId}/outcomes/check',
         'put /api/studies/{studyId}/outcomes',
         'post /api/studies/{studyId}/analysis/runs',
         'get /api/studies/{studyId}/analysis/runs',
