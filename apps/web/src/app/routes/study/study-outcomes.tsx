@@ -1,6 +1,6 @@
 import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
 import { EmptyState, ErrorState, ForbiddenState, LoadingState } from '../../../components/ui/states.js';
-import { Table, TBody, TD, TH, THead, TR } from '../../../components/ui/table.js';
+import { FileColumnsTable } from '../../../components/ui/csv-file-field.js';
 import { paths } from '../../../config/paths.js';
 import { CompletenessCard } from '../../../features/analysis/components/completeness-card.js';
 import { useOutcomes } from '../../../features/outcomes/api/get-outcomes.js';
@@ -78,26 +78,13 @@ function OutcomesBody() {
               }
             />
             <CardBody className="flex flex-col gap-3">
-              <Table aria-label="Outcome file columns">
-                <THead>
-                  <TR>
-                    <TH>Column</TH>
-                    <TH>What it holds</TH>
-                  </TR>
-                </THead>
-                <TBody>
-                  {outcomeColumns.map((c) => (
-                    <TR key={c.name}>
-                      <TD>
-                        <code className="text-xs">{c.name}</code>
-                      </TD>
-                      <TD>
-                        {c.name === 'value' && outcome.unit ? `${c.meaning}, in ${outcome.unit}` : c.meaning}
-                      </TD>
-                    </TR>
-                  ))}
-                </TBody>
-              </Table>
+              <FileColumnsTable
+                label="Outcome file columns"
+                columns={outcomeColumns.map((c) => ({
+                  name: c.name,
+                  meaning: c.name === 'value' && outcome.unit ? `${c.meaning}, in ${outcome.unit}` : c.meaning,
+                }))}
+              />
               <p className="text-sm text-graphite">
                 Separate the columns with commas or semicolons and save the file as UTF-8. In a
                 semicolon-separated file a decimal comma (412,5) is read as a decimal. Each participant

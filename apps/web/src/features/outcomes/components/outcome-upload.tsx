@@ -6,7 +6,7 @@ import { Button } from '../../../components/ui/button.js';
 import { Callout } from '../../../components/ui/callout.js';
 import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
 import { TextareaField } from '../../../components/ui/field.js';
-import { formatBytes } from '../../../lib/upload.js';
+import { CsvFileField } from '../../../components/ui/csv-file-field.js';
 import { checkOutcomes } from '../api/check-outcomes.js';
 import { invalidateOutcomeViews, recordOutcomes } from '../api/record-outcomes.js';
 import { needsReason, rowIssues, sendChunks, totals } from './chunked-send.js';
@@ -152,35 +152,19 @@ export function OutcomeUpload({
         description="For many participants at once. The file is read and checked in your browser, then by the server, before anything is recorded."
       />
       <CardBody className="flex flex-col gap-4">
-        <div className="flex flex-col gap-1.5">
-          <label htmlFor={inputId} className="text-sm font-semibold text-ink">
-            CSV file
-          </label>
-          <input
-            id={inputId}
-            type="file"
-            accept=".csv,text/csv"
-            aria-describedby={`${inputId}-hint`}
-            disabled={busy !== null}
-            className="block w-full rounded-control border border-pebble bg-vellum p-2 text-sm file:mr-3 file:rounded-control file:border-0 file:bg-spruce-wash file:px-3 file:py-1.5 file:font-semibold file:text-spruce-deep"
-            // Cleared as the picker opens, so that choosing the same file again after fixing it reads it again.
-            onClick={(e) => {
-              e.currentTarget.value = '';
-            }}
-            onChange={(e) => void choose(e.target.files?.[0] ?? null)}
-          />
-          <p id={`${inputId}-hint`} className="text-sm text-graphite">
-            Columns <code className="text-xs">participant_code</code>, <code className="text-xs">value</code>{' '}
-            and <code className="text-xs">measured_on</code>, separated by commas or semicolons, saved as
-            UTF-8.
-            {file && (
-              <>
-                {' '}
-                Chosen: <span className="font-semibold">{file.name}</span> ({formatBytes(file.size)}).
-              </>
-            )}
-          </p>
-        </div>
+        <CsvFileField
+          id={inputId}
+          file={file}
+          disabled={busy !== null}
+          reselectable
+          onChoose={(f) => void choose(f)}
+          hint={
+            <>
+              Columns <code className="text-xs">participant_code</code>, <code className="text-xs">value</code>{' '}
+              and <code className="text-xs">measured_on</code>, separated by commas or semicolons, saved as UTF-8.
+            </>
+          }
+        />
 
         <div aria-live="polite" className="flex flex-col gap-4 empty:-mt-4">
           {readError && (

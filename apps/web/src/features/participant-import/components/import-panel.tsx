@@ -7,6 +7,7 @@ import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
 import { FormAlert } from '../../../components/ui/form-alert.js';
 import { Table, TBody, TD, TH, THead, TR } from '../../../components/ui/table.js';
 import { errorMessage } from '../../../lib/form-errors.js';
+import { CsvFileField, FileColumnsTable } from '../../../components/ui/csv-file-field.js';
 import { formatBytes, type UploadProgress } from '../../../lib/upload.js';
 import { useImportProgress } from '../api/get-import-progress.js';
 import { newProgressId, useImportParticipants, type ImportMode } from '../api/import-participants.js';
@@ -239,34 +240,18 @@ export function ImportPanel({ study }: { study: StudyDetail }) {
           description="First a preview checks every row and writes nothing. Then the import puts the whole file in at once, or nothing."
         />
         <CardBody className="flex flex-col gap-4">
-          <div className="flex flex-col gap-1.5">
-            <label htmlFor={inputId} className="text-sm font-semibold text-ink">
-              CSV file
-            </label>
-            <input
-              ref={inputRef}
-              id={inputId}
-              type="file"
-              accept=".csv,text/csv"
-              aria-describedby={`${inputId}-hint`}
-              className="block w-full rounded-control border border-pebble bg-vellum p-2 text-sm file:mr-3 file:rounded-control file:border-0 file:bg-spruce-wash file:px-3 file:py-1.5 file:font-semibold file:text-spruce-deep"
-              onChange={(e) => {
-                setFile(e.target.files?.[0] ?? null);
-                setPreview(null);
-                setCommitted(null);
-                setFormError(null);
-              }}
-            />
-            <p id={`${inputId}-hint`} className="text-sm text-graphite">
-              UTF-8 text, separated by commas, semicolons or tabs, with a header row. Up to 64 MB.
-              {file && (
-                <>
-                  {' '}
-                  Chosen: <span className="font-semibold">{file.name}</span> ({formatBytes(file.size)}).
-                </>
-              )}
-            </p>
-          </div>
+          <CsvFileField
+            id={inputId}
+            file={file}
+            inputRef={inputRef}
+            onChoose={(f) => {
+              setFile(f);
+              setPreview(null);
+              setCommitted(null);
+              setFormError(null);
+            }}
+            hint="UTF-8 text, separated by commas, semicolons or tabs, with a header row. Up to 64 MB."
+          />
           <Progress upload={upload} studyId={study.id} progressId={progressId} busy={run.isPending} />
           <FormAlert message={formError} title="The file could not be read" />
           <div className="flex flex-wrap gap-2">
@@ -351,24 +336,7 @@ export function ImportPanel({ study }: { study: StudyDetail }) {
           }
         />
         <CardBody>
-          <Table aria-label="Import columns">
-            <THead>
-              <TR>
-                <TH>Column</TH>
-                <TH>What it holds</TH>
-              </TR>
-            </THead>
-            <TBody>
-              {columns.map((c) => (
-                <TR key={c.name}>
-                  <TD>
-                    <code className="text-xs">{c.name}</code>
-                  </TD>
-                  <TD>{c.meaning}</TD>
-                </TR>
-              ))}
-            </TBody>
-          </Table>
+          <FileColumnsTable label="Import columns" columns={columns} />
         </CardBody>
       </Card>
     </div>
