@@ -80,6 +80,12 @@ describe('creating a study', () => {
     expect(await designTab.getAttribute('aria-current')).toBe('page');
     await screenshot(page, 'new-study-4-design-tab');
 
+    // Its overview says what is left to do, and links back to the Design tab.
+    await page.getByRole('link', { name: 'Overview' }).click();
+    await page.getByText('This study is being set up').waitFor();
+    await page.getByRole('main').getByRole('link', { name: 'Design tab' }).click();
+    await page.waitForURL(/\/studies\/[0-9a-f-]{36}\/design$/);
+
     // The list shows it too, in set-up, with the creator as its statistician.
     await page.getByRole('link', { name: '← All studies' }).click();
     await page.waitForURL(/\/studies$/);
