@@ -7,7 +7,7 @@ import {
 import type { EntityManager } from 'typeorm';
 import type { AppContext } from '../../app-context.js';
 import { AppError } from '../../http/app-error.js';
-import { SEAL_AT_COMMIT_MAX, appendAudit, pendingAuditPayload, type AuditActor, type AuditEntry } from '../audit/audit.service.js';
+import { PENDING_ROW_MAX, appendAudit, pendingAuditPayload, type AuditActor, type AuditEntry } from '../audit/audit.service.js';
 import type { StudyDesign } from '../design/study-design.js';
 import { allocate, insertAllocations, levelOf, randomCode, type AllocationResult } from './allocation.service.js';
 
@@ -326,7 +326,7 @@ export async function enrollValidated(
     });
   }
   const allEntries = [...entries, ...(opts.extraAudit ?? [])];
-  if (allocations.length && allocations.length <= 5000 && allEntries.length <= SEAL_AT_COMMIT_MAX) {
+  if (allocations.length && allocations.length <= 5000 && allEntries.length <= PENDING_ROW_MAX) {
     // Live enrollments: allocations and audit entries in one statement, then COMMIT.
     await insertAllocations(tx, design, allocations, pendingAuditPayload(actor, allEntries, tx));
   } else {

@@ -9,7 +9,7 @@ import {
   superuserQuery,
   type TestContext,
 } from '../../../test/harness.js';
-import { SEAL_AT_COMMIT_MAX, appendAudit } from '../audit.service.js';
+import { PENDING_ROW_MAX, appendAudit } from '../audit.service.js';
 import { verifyAuditChain } from '../audit-verify.js';
 import { GENESIS_HASH, auditHash, canonicalJson, chainHash, contentHash } from '../audit-hash.js';
 import { createHash } from 'node:crypto';
@@ -148,15 +148,15 @@ describe('hash chain', () => {
     }
   });
 
-  it('links small appends at commit in PostgreSQL and large ones in the API, to the same scheme-2 chain', async () => {
+  it('links every append at commit in PostgreSQL, a large one over several pending rows, in the order appended (scheme 2)', async () => {
     const t4 = await createTestContext();
     try {
-      const many = SEAL_AT_COMMIT_MAX + 3;
+      const many = PENDING_ROW_MAX + 3;
       await inTransaction(t4.ctx.ds, (tx) => appendAudit(tx, actor, [{ action: 'test.small', entityType: 'test', before: { a: 1.5, b: [true, null] } }]));
       await inTransaction(t4.ctx.ds, (tx) =>
         appendAudit(tx, actor, Array.from({ length: many }, (_, i) => ({ action: 'test.large', entityType: 'test', entityId: String(i), after: { i, third: i / 3, nested: { b: [true, null], s: 'ünï "q"' } } }))),
       );
-      // Both paths in one transaction: the large batch is linked first, the small one at commit.
+      // A small and a large append in one transaction: linked in that order.
       await inTransaction(t4.ctx.ds, async (tx) => {
         await appendAudit(tx, actor, [{ action: 'test.mixed_small', entityType: 'test' }]);
         await appendAudit(tx, actor, Array.from({ length: many }, () => ({ action: 'test.mixed_large', entityType: 'test' })));
@@ -167,7 +167,16 @@ describe('hash chain', () => {
       );
       expect(rows).toHaveLength(1 + 2 * many + 1);
       expect(rows.every((r) => r.hash_scheme === 2)).toBe(true);
-      expect(rows.at(-1)!.action).toBe('test.mixed_small');
+      expect(rows.map((r) => r.action)).toEqual([
+        'test.small',
+        ...Array.from({ length: many }, () => 'test.large'),
+        'test.mixed_small',
+        ...Array.from({ length: many }, () => 'test.mixed_large'),
+      ]);
+      const large = await t4.ownerQuery<{ entity_id: string }>(
+        `SELECT entity_id FROM audit_event WHERE action = 'test.large' ORDER BY audit_event.seq`,
+      );
+      expect(large.map((r) => r.entity_id)).toEqual(Array.from({ length: many }, (_, i) => String(i)));
       expect(await t4.ownerQuery(`SELECT * FROM audit_pending`)).toHaveLength(0);
       // Scheme 2 from its published parts, SHA-256 (FIPS 180-4) via node:crypto, not via chainHash.
       const first = rows[0]!;
@@ -219,6 +228,33 @@ describe('hash chain', () => {
       expect((await verifyAuditChain(t5.ctx.ds)).firstBroken?.problem).toBe('hash_mismatch');
     } finally {
       await t5.close();
+    }
+  });
+
+  it('when a long transaction has appended entries but not committed, then other transactions still commit theirs meanwhile', async () => {
+    const t6 = await createTestContext();
+    try {
+      let release!: () => void;
+      const gate = new Promise<void>((resolve) => (release = resolve));
+      let appended!: () => void;
+      const longAppended = new Promise<void>((resolve) => (appended = resolve));
+      const long = inTransaction(t6.ctx.ds, async (tx) => {
+        await appendAudit(tx, actor, Array.from({ length: 50 }, () => ({ action: 'test.long', entityType: 'test' })));
+        appended();
+        await gate;
+      });
+      await longAppended;
+      // Would wait for the long transaction (and time out) if appending took the chain lock.
+      await inTransaction(t6.ctx.ds, (tx) => appendAudit(tx, actor, [{ action: 'test.quick', entityType: 'test' }]));
+      const meanwhile = await t6.ownerQuery<{ action: string }>(`SELECT action FROM audit_event`);
+      expect(meanwhile.map((r) => r.action)).toEqual(['test.quick']);
+      release();
+      await long;
+      const rows = await t6.ownerQuery<{ action: string }>(`SELECT action FROM audit_event ORDER BY audit_event.seq`);
+      expect(rows.map((r) => r.action)).toEqual(['test.quick', ...Array.from({ length: 50 }, () => 'test.long')]);
+      expect(await verifyAuditChain(t6.ctx.ds)).toMatchObject({ ok: true, checked: 51 });
+    } finally {
+      await t6.close();
     }
   });
 
