@@ -1,16 +1,8 @@
-import type { ReactNode } from 'react';
 import type { OutcomesOverview } from '@counterpoise/contracts/analysis';
 import { Callout } from '../../../components/ui/callout.js';
 import { TextLink } from '../../../components/ui/text-link.js';
+import { Fact } from '../../../components/ui/fact.js';
 
-function Fact({ term, children }: { term: string; children: ReactNode }) {
-  return (
-    <div className="min-w-0">
-      <dt className="text-xs font-semibold text-graphite uppercase">{term}</dt>
-      <dd className="mt-0.5 text-ink">{children}</dd>
-    </div>
-  );
-}
 
 /** What is being recorded, from the analysis specification, and the promise that no arm is shown. */
 export function OutcomesIntro({
@@ -30,14 +22,14 @@ export function OutcomesIntro({
   return (
     <div className="flex flex-col gap-4" data-testid="outcomes-intro">
       <dl className="grid gap-4 rounded-card border border-rule bg-vellum px-5 py-4 shadow-card sm:grid-cols-2 lg:grid-cols-4">
-        <Fact term="Outcome">
+        <Fact label="Outcome">
           <span className="font-semibold">{outcome.label}</span>
         </Fact>
-        <Fact term="Unit">{outcome.unit ?? 'none given in the specification'}</Fact>
-        <Fact term="Named by">
+        <Fact label="Unit">{outcome.unit ?? 'none given in the specification'}</Fact>
+        <Fact label="Named by">
           Analysis specification, version {specVersion} ({specStatus === 'locked' ? 'locked' : 'draft'})
         </Fact>
-        {siteCodes && <Fact term="Your sites">{siteCodes.join(', ')}</Fact>}
+        {siteCodes && <Fact label="Your sites">{siteCodes.join(', ')}</Fact>}
       </dl>
       <p className="max-w-prose text-ink">
         Record each participant’s value with the date it was measured, one at a time or from a CSV file.

@@ -1,4 +1,3 @@
-import type { ReactNode } from 'react';
 import type { z } from 'zod';
 import type { StudyDetail } from '../../../lib/study-detail.js';
 import type { historyEntrySchema, ParticipantDetail } from '@counterpoise/contracts/participants';
@@ -13,17 +12,10 @@ import { ConsentUpload } from './consent-upload.js';
 import { CorrectionForm, WithdrawForm } from './correction-forms.js';
 import { ParticipantStatusBadge, utcDate, utcStamp } from './participant-labels.js';
 import { EmergencyUnblind } from './unblind-dialog.js';
+import { Fact } from '../../../components/ui/fact.js';
 
 type HistoryEntry = z.output<typeof historyEntrySchema>;
 
-function Fact({ label, children }: { label: string; children: ReactNode }) {
-  return (
-    <div className="flex flex-col gap-0.5">
-      <dt className="text-xs font-semibold tracking-wide text-graphite uppercase">{label}</dt>
-      <dd className="text-ink">{children}</dd>
-    </div>
-  );
-}
 
 const actionLabels: Record<string, string> = {
   'participant.screened': 'Screened: eligible',

@@ -1,18 +1,10 @@
-import type { ReactNode } from 'react';
 import type { StudySummary } from '@counterpoise/contracts/studies';
 import { Card, CardBody, CardHeader } from '../../../components/ui/card.js';
 import { Callout } from '../../../components/ui/callout.js';
 import { ProgressMeter } from '../../../components/ui/progress-meter.js';
 import { BlindingBadge, describeRole, KindBadge, StatusBadge } from './study-labels.js';
+import { Fact } from '../../../components/ui/fact.js';
 
-function Fact({ label, children }: { label: string; children: ReactNode }) {
-  return (
-    <div className="flex flex-col gap-1">
-      <dt className="text-xs font-semibold tracking-wide text-graphite uppercase">{label}</dt>
-      <dd className="text-ink">{children}</dd>
-    </div>
-  );
-}
 
 /** Pooled facts only: nothing here is broken down by arm, so every role may see it. */
 export function StudyOverview({ study }: { study: StudySummary }) {
