@@ -13,7 +13,7 @@
  * enrollment routes do (singletonKey = study), not through the HTTP enrollment route.
  */
 import 'reflect-metadata';
-import { execFile, spawn, type ChildProcess } from 'node:child_process';
+import { execFile } from 'node:child_process';
 import { randomUUID } from 'node:crypto';
 import fs from 'node:fs';
 import http from 'node:http';
@@ -26,6 +26,7 @@ import PgBoss from 'pg-boss';
 import { pino } from 'pino';
 import type { AppContext } from '../src/app-context.js';
 import { loadEnv } from '../src/config/env.js';
+import { startApi, stopApi } from './api-process.js';
 import { createDataSource, migrate } from '../src/db/data-source.js';
 import { bossOptions, createJobQueue, ensureQueues } from '../src/jobs/queue.js';
 import { startFakeSmtp } from '../src/mail/fake-smtp.js';
@@ -294,40 +295,6 @@ function wrk(url: string, cookie: string, connections: number, seconds: number):
   });
 }
 
-/** Starts src/server.ts as the start script does, on `port`, with `processes` API processes. */
-async function startApi(env: Record<string, unknown>, port: number, processes: number): Promise<ChildProcess> {
-  const prof = process.env.BENCH_CPU_PROF ? ['--cpu-prof', `--cpu-prof-dir=${process.env.BENCH_CPU_PROF}`] : [];
-  const child = spawn(process.execPath, [...prof, `--max-old-space-size=${process.env.API_HEAP_MB ?? 256}`, '--import', 'tsx', path.join(here, '../src/server.ts')], {
-    env: {
-      ...process.env,
-      DB_NAME: String(env.DB_NAME),
-      SMTP_PORT: String(env.SMTP_PORT),
-      PORT: String(port),
-      APP_ORIGIN: `http://127.0.0.1:${port}`,
-      API_PROCESSES: String(processes),
-      NODE_ENV: 'production',
-      LOG_LEVEL: 'warn',
-      JWT_SECRET: 'bench-secret-bench-secret-bench-secret-0123',
-    },
-    stdio: ['ignore', 'ignore', 'inherit'],
-  });
-  for (let i = 0; i < 150; i++) {
-    await new Promise((r) => setTimeout(r, 200));
-    const ok = await fetch(`http://127.0.0.1:${port}/api/health`).then((r) => r.ok, () => false);
-    // Every process up: ask a few times so each is likely to have answered once.
-    if (ok) {
-      await new Promise((r) => setTimeout(r, 1500));
-      return child;
-    }
-  }
-  throw new Error('API did not start');
-}
-
-async function stopApi(child: ChildProcess): Promise<void> {
-  child.kill('SIGTERM');
-  await new Promise((r) => child.once('exit', r));
-}
-
 export async function run(): Promise<void> {
   console.log(`node ${process.version}, ${os.cpus().length} cores, ${os.cpus()[0]?.model ?? ''}`);
   const { base, owner } = reuse ? await openDatabase() : await setupDatabase();
@@ -397,7 +364,7 @@ export async function run(): Promise<void> {
     // (its own process, heap limit, production settings), with one API process and with one per core.
     for (const processes of [1, os.cpus().length]) {
       const port = 5598;
-      const server = await startApi(env, port, processes);
+      const server = await startApi(port, { DB_NAME: DB, SMTP_PORT: String(env.SMTP_PORT), API_PROCESSES: String(processes) });
       try {
         const signIn = await fetch(`http://127.0.0.1:${port}/api/auth/sign-in`, {
           method: 'POST',

@@ -12,7 +12,6 @@
  *     covariates, on a freshly started API process, with that process's peak RSS sampled.
  */
 import 'reflect-metadata';
-import { spawn, type ChildProcess } from 'node:child_process';
 import fs from 'node:fs';
 import http from 'node:http';
 import os from 'node:os';
@@ -27,6 +26,7 @@ import { designBodySchema, type DesignBodyInput } from '@counterpoise/contracts/
 import { addDays, utcToday } from '@counterpoise/contracts/participants';
 import { createRng } from '@counterpoise/stats';
 import { loadEnv } from '../src/config/env.js';
+import { startApi, stopApi } from './api-process.js';
 import { createDataSource, migrate } from '../src/db/data-source.js';
 import { bossOptions, createJobQueue, ensureQueues } from '../src/jobs/queue.js';
 import { saveDesign } from '../src/modules/design/design.service.js';
@@ -106,26 +106,9 @@ async function createBenchStudy(owner: pg.Client, code: string, ncov: number, ta
   return { studyId, sites: site.rows, covariates: covariates(ncov) };
 }
 
-async function startServer(): Promise<ChildProcess> {
-  const prof = process.env.BENCH_CPU_PROF ? ['--cpu-prof', `--cpu-prof-dir=${process.env.BENCH_CPU_PROF}`] : [];
-  // The API as the start script runs it, heap limit included.
-  const heap = `--max-old-space-size=${process.env.API_HEAP_MB ?? 256}`;
-  const child = spawn(process.execPath, [...prof, heap, '--import', 'tsx', path.join(here, '../src/server.ts')], {
-    env: { ...process.env, NODE_OPTIONS: process.env.BENCH_NODE_OPTIONS ?? '', DB_NAME: DB, PORT: String(PORT), LOG_LEVEL: 'warn', NODE_ENV: 'production', JWT_SECRET: 'bench-secret-bench-secret-bench-secret-0123', DB_POOL_SIZE: '20' },
-    stdio: ['ignore', 'ignore', 'inherit'],
-  });
-  for (let i = 0; i < 100; i++) {
-    await new Promise((r) => setTimeout(r, 200));
-    const ok = await fetch(`http://127.0.0.1:${PORT}/api/health`).then((r) => r.ok, () => false);
-    if (ok) return child;
-  }
-  throw new Error('API did not start');
-}
-
-async function stopServer(child: ChildProcess) {
-  child.kill('SIGTERM');
-  await new Promise((r) => child.once('exit', r));
-}
+const startServer = () =>
+  startApi(PORT, { NODE_OPTIONS: process.env.BENCH_NODE_OPTIONS ?? '', DB_NAME: DB, DB_POOL_SIZE: '20' });
+const stopServer = stopApi;
 
 async function signIn(email: string) {
   const res = await fetch(`http://127.0.0.1:${PORT}/api/auth/sign-in`, {
